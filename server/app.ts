@@ -1,0 +1,55 @@
+import path from "node:path";
+import express, { type RequestHandler } from "express";
+import { toNodeHandler } from "better-auth/node";
+import type { Services } from "./http/context";
+import { HttpError, errorHandler, unknownApiRoute } from "./http/errors";
+import { healthRouter } from "./routes/health";
+import { invitationsRouter } from "./routes/invitations";
+import { meRouter } from "./routes/me";
+import { outboxRouter } from "./routes/outbox";
+import { workshopsRouter } from "./routes/workshops";
+
+export interface AppOptions {
+  /** Folder with the built client; served with a fallback to index.html for client routes. */
+  clientDir?: string;
+  trustedOrigins: string[];
+}
+
+/**
+ * Browsers send cookies with cross-site requests in some cases; a changing request
+ * that names a foreign Origin is refused before any route sees it.
+ */
+function sameOriginWrites(trusted: string[]): RequestHandler {
+  return (req, _res, next) => {
+    if (req.method === "GET" || req.method === "HEAD" || req.method === "OPTIONS") return next();
+    const origin = req.get("origin");
+    if (origin && !trusted.includes(origin)) return next(new HttpError("forbidden", `Requests from ${origin} are not accepted.`));
+    next();
+  };
+}
+
+export function createApp(services: Services, options: AppOptions) {
+  const app = express();
+  app.disable("x-powered-by");
+  app.set("trust proxy", "loopback");
+
+  // better-auth reads its own bodies, so it is mounted before the JSON parser.
+  app.all("/api/auth/*splat", toNodeHandler(services.auth));
+
+  app.use("/api", express.json({ limit: "1mb" }), sameOriginWrites(options.trustedOrigins));
+  app.use("/api/health", healthRouter(services));
+  app.use("/api/me", meRouter(services));
+  app.use("/api/workshops", workshopsRouter(services));
+  app.use("/api/invitations", invitationsRouter(services));
+  app.use("/api/outbox", outboxRouter(services));
+  app.use("/api", unknownApiRoute);
+
+  if (options.clientDir) {
+    const dir = path.resolve(options.clientDir);
+    app.use(express.static(dir, { index: false, maxAge: "1h" }));
+    // Client routes (React Router) all load the same page.
+    app.get("/*splat", (_req, res) => res.sendFile(path.join(dir, "index.html"), { maxAge: 0 }));
+  }
+  app.use(errorHandler);
+  return app;
+}

@@ -1,0 +1,51 @@
+import type { Request } from "express";
+import { fromNodeHeaders } from "better-auth/node";
+import { and, eq } from "drizzle-orm";
+import { isWorkshopRole } from "../../shared/workshop/roles";
+import type { Auth } from "../auth/auth";
+import type { Database } from "../db/client";
+import { member, organization } from "../db/schema";
+import type { Actor, Membership } from "../policies/actor";
+import { notFound, unauthenticated } from "./errors";
+
+export interface Services {
+  db: Database;
+  auth: Auth;
+  baseUrl: string;
+  /** True when mail goes to the in-process fake and the Outbox page is on. */
+  outboxEnabled: boolean;
+  version: string;
+}
+
+export function authHeaders(req: Request): Headers {
+  return fromNodeHeaders(req.headers);
+}
+
+/** The signed-in person, or null. */
+export async function currentActor(services: Services, req: Request): Promise<Actor | null> {
+  const session = await services.auth.api.getSession({ headers: authHeaders(req) });
+  if (!session) return null;
+  return { userId: session.user.id, email: session.user.email.toLowerCase(), name: session.user.name };
+}
+
+export async function requireActor(services: Services, req: Request): Promise<Actor> {
+  const actor = await currentActor(services, req);
+  if (!actor) throw unauthenticated();
+  return actor;
+}
+
+/**
+ * The actor's membership of one workshop. Someone who is not a member gets
+ * "not found", never "forbidden": the workshop's existence is not theirs to learn.
+ */
+export async function requireMembership(services: Services, actor: Actor, workshopId: string): Promise<Membership> {
+  const rows = await services.db
+    .select({ memberId: member.id, role: member.role, workshopName: organization.name })
+    .from(member)
+    .innerJoin(organization, eq(organization.id, member.organizationId))
+    .where(and(eq(member.organizationId, workshopId), eq(member.userId, actor.userId)))
+    .limit(1);
+  const row = rows[0];
+  if (!row || !isWorkshopRole(row.role)) throw notFound("No such workshop.");
+  return { workshopId, workshopName: row.workshopName, memberId: row.memberId, role: row.role };
+}

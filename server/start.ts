@@ -1,0 +1,69 @@
+import http from "node:http";
+import type { AddressInfo } from "node:net";
+import { readFileSync } from "node:fs";
+import { createApp } from "./app";
+import { createAuth } from "./auth/auth";
+import { connectDatabase } from "./db/client";
+import type { ServerEnv } from "./env";
+import type { Services } from "./http/context";
+import { startFakeSmtp, type FakeSmtp } from "./mail/fake-smtp";
+import { createSmtpMailer } from "./mail/mailer";
+
+export interface RunningServer {
+  url: string;
+  services: Services;
+  fakeSmtp: FakeSmtp | null;
+  close(): Promise<void>;
+}
+
+const version = (JSON.parse(readFileSync(new URL("../package.json", import.meta.url), "utf8")) as { version: string }).version;
+
+/** Starts everything the app needs in this process: database pool, mail, auth, HTTP. */
+export async function startServer(env: ServerEnv, extraOrigins: string[] = []): Promise<RunningServer> {
+  const db = connectDatabase(env.DATABASE_URL);
+  const httpServer = http.createServer();
+  await new Promise<void>((resolve, reject) => {
+    httpServer.once("error", reject);
+    httpServer.listen(env.PORT, env.HOST, () => resolve());
+  });
+  const port = (httpServer.address() as AddressInfo).port;
+  const baseUrl = env.BASE_URL ?? `http://${env.HOST}:${port}`;
+
+  let fakeSmtp: FakeSmtp | null = null;
+  if (env.MAIL_FAKE_PORT !== undefined) fakeSmtp = await startFakeSmtp(db, env.MAIL_FAKE_PORT);
+  const mailer = fakeSmtp
+    ? createSmtpMailer({ host: "127.0.0.1", port: fakeSmtp.port, secure: false, plain: true, from: env.MAIL_FROM })
+    : createSmtpMailer({
+        host: env.SMTP_HOST ?? "127.0.0.1",
+        port: env.SMTP_PORT ?? 25,
+        secure: env.SMTP_SECURE === "true",
+        user: env.SMTP_USER,
+        password: env.SMTP_PASSWORD,
+        from: env.MAIL_FROM,
+      });
+
+  const trustedOrigins = [baseUrl, ...extraOrigins];
+  const auth = createAuth({
+    db,
+    baseUrl,
+    secret: env.AUTH_SECRET,
+    mailer,
+    extraOrigins,
+    rateLimit: env.NODE_ENV === "production",
+  });
+  const services: Services = { db, auth, baseUrl, outboxEnabled: fakeSmtp !== null, version };
+  httpServer.on("request", createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins }));
+
+  return {
+    url: baseUrl,
+    services,
+    fakeSmtp,
+    async close() {
+      httpServer.closeAllConnections();
+      await new Promise<void>((resolve) => httpServer.close(() => resolve()));
+      await fakeSmtp?.close();
+      mailer.close();
+      await db.$client.end();
+    },
+  };
+}

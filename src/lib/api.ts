@@ -1,0 +1,42 @@
+import type { ApiErrorBody, ApiIssue } from "../../shared/api/errors";
+
+/** An API refusal with the server's stable error shape: code, message and (for bad input) issues. */
+export class ApiError extends Error {
+  constructor(
+    readonly status: number,
+    readonly code: string,
+    message: string,
+    readonly issues: ApiIssue[] = [],
+  ) {
+    super(message);
+  }
+}
+
+async function request<T>(method: string, path: string, body?: unknown): Promise<T> {
+  let response: Response;
+  try {
+    response = await fetch(`/api${path}`, {
+      method,
+      credentials: "same-origin",
+      headers: body === undefined ? {} : { "content-type": "application/json" },
+      body: body === undefined ? undefined : JSON.stringify(body),
+    });
+  } catch {
+    throw new ApiError(0, "unavailable", "The Panelproof server cannot be reached. Is it running?");
+  }
+  if (response.status === 204) return undefined as T;
+  const text = await response.text();
+  const data = text ? JSON.parse(text) : undefined;
+  if (!response.ok) {
+    const error = (data as ApiErrorBody | undefined)?.error;
+    throw new ApiError(response.status, error?.code ?? "internal", error?.message ?? response.statusText, error?.issues);
+  }
+  return data as T;
+}
+
+export const api = {
+  get: <T>(path: string) => request<T>("GET", path),
+  post: <T>(path: string, body?: unknown) => request<T>("POST", path, body ?? {}),
+  patch: <T>(path: string, body: unknown) => request<T>("PATCH", path, body),
+  delete: <T = void>(path: string) => request<T>("DELETE", path),
+};

@@ -1,0 +1,49 @@
+import { useOutletContext } from "react-router";
+import type { WorkshopDetail } from "../../shared/api/workshops";
+import { Card } from "../components/ui";
+
+const STEPS = [
+  {
+    title: "Recordings",
+    empty: "No reference flights yet.",
+    next: "A recording is a timed stream of aircraft values. You will capture one from your simulator, import a file, or compose a scenario that reaches the rare states (a fire warning, an unsafe gear) without flying.",
+  },
+  {
+    title: "Panels",
+    empty: "No panels described yet.",
+    next: "A panel lists its elements (lamps, gauge pointers, readouts, breakers, switches) and how each follows the aircraft. Describe it once; mirror-image panels reuse the description.",
+  },
+  {
+    title: "Runs",
+    empty: "No runs yet.",
+    next: "A run replays a recording into a panel, virtual or wired, and keeps every moment an element showed something other than it should.",
+  },
+];
+
+/** The workshop's home: what is here, and what comes next when nothing is. */
+export function WorkshopHome() {
+  const w = useOutletContext<WorkshopDetail>();
+  const canChange = w.abilities.includes("bench.write");
+  return (
+    <div className="grid gap-5 md:grid-cols-3">
+      {STEPS.map((s, i) => (
+        <Card
+          key={s.title}
+          title={
+            <span className="flex items-center gap-2">
+              <span className="grid h-6 w-6 place-items-center rounded-full border border-ink/40 font-mono text-xs">{i + 1}</span>
+              {s.title}
+            </span>
+          }
+        >
+          <p className="font-semibold">{s.empty}</p>
+          <p className="mt-2 text-sm text-ink-soft">{s.next}</p>
+          {!canChange && <p className="mt-3 text-sm text-ink-soft">As a viewer you will see these when builders add them.</p>}
+        </Card>
+      ))}
+      <p className="text-sm text-ink-soft md:col-span-3">
+        {w.memberCount} {w.memberCount === 1 ? "person" : "people"} in this workshop.
+      </p>
+    </div>
+  );
+}
