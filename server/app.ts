@@ -48,7 +48,7 @@ export function createApp(services: Services, options: AppOptions) {
     const dir = path.resolve(options.clientDir);
     app.use(express.static(dir, { index: false, maxAge: "1h" }));
     // Client routes (React Router) all load the same page.
-    app.get("/*splat", (_req, res) => res.sendFile(path.join(dir, "index.html"), { maxAge: 0 }));
+    app.get("/{*splat}", (_req, res) => res.sendFile(path.join(dir, "index.html"), { maxAge: 0 }));
   }
   app.use(errorHandler);
   return app;

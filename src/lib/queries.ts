@@ -62,7 +62,8 @@ export function useSignIn() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (input: { email: string; password: string }) => unwrap(authClient.signIn.email(input)),
-    onSuccess: () => qc.invalidateQueries({ queryKey: queryKeys.me }),
+    // Drop the cached "nobody signed in" so the next page asks the server afresh.
+    onSuccess: () => qc.removeQueries({ queryKey: queryKeys.me }),
   });
 }
 
@@ -70,7 +71,7 @@ export function useSignUp() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (input: { name: string; email: string; password: string }) => unwrap(authClient.signUp.email(input)),
-    onSuccess: () => qc.invalidateQueries({ queryKey: queryKeys.me }),
+    onSuccess: () => qc.removeQueries({ queryKey: queryKeys.me }),
   });
 }
 
@@ -142,7 +143,7 @@ export function useRespondToInvitation(invitationId: string) {
     mutationFn: (action: "accept" | "decline") =>
       api.post<{ workshopId?: string | null; status: string }>(`/invitations/${invitationId}/${action}`),
     onSuccess: () => {
-      qc.invalidateQueries({ queryKey: queryKeys.me });
+      qc.removeQueries({ queryKey: queryKeys.me });
       qc.invalidateQueries({ queryKey: queryKeys.invitationPreview(invitationId) });
     },
   });
