@@ -43,4 +43,6 @@ PLAYWRIGHT_JSON_OUTPUT_NAME="$RESULTS/playwright.json" npx playwright test --rep
 echo $? > "$RESULTS/playwright.exit"
 set -e
 
+# Stop the database first so the summary line is the very last thing printed.
+stop_cluster
 node scripts/summarize-tests.mjs "$RESULTS"

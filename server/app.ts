@@ -13,6 +13,8 @@ export interface AppOptions {
   /** Folder with the built client; served with a fallback to index.html for client routes. */
   clientDir?: string;
   trustedOrigins: string[];
+  /** True when a reverse proxy in front sets X-Forwarded-For. */
+  behindProxy?: boolean;
 }
 
 /**
@@ -33,8 +35,14 @@ export function createApp(services: Services, options: AppOptions) {
   app.disable("x-powered-by");
   app.set("trust proxy", "loopback");
 
-  // better-auth reads its own bodies, so it is mounted before the JSON parser.
-  app.all("/api/auth/*splat", toNodeHandler(services.auth));
+  // better-auth reads its own bodies, so it is mounted before the JSON parser. It sees
+  // a Web Request without the socket, so hand it the peer address for rate limiting,
+  // overwriting whatever a client sent (set behind a proxy that you trust instead).
+  const authHandler = toNodeHandler(services.auth);
+  app.all("/api/auth/*splat", (req, res) => {
+    if (!options.behindProxy) req.headers["x-forwarded-for"] = req.socket.remoteAddress ?? "";
+    return authHandler(req, res);
+  });
 
   app.use("/api", express.json({ limit: "1mb" }), sameOriginWrites(options.trustedOrigins));
   app.use("/api/health", healthRouter(services));

@@ -21,6 +21,8 @@ const schema = z.object({
   SMTP_USER: z.string().optional(),
   SMTP_PASSWORD: z.string().optional(),
   MAIL_FROM: z.string().default("Panelproof <bench@panelproof.localhost>"),
+  /** "true" when a reverse proxy in front of the app sets X-Forwarded-For. */
+  BEHIND_PROXY: z.enum(["true", "false"]).default("false"),
   /** Folder with the built client (vite build). Empty: API only. */
   CLIENT_DIR: z.string().optional(),
 });

@@ -52,7 +52,7 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     rateLimit: env.NODE_ENV === "production",
   });
   const services: Services = { db, auth, baseUrl, outboxEnabled: fakeSmtp !== null, version };
-  httpServer.on("request", createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins }));
+  httpServer.on("request", createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins, behindProxy: env.BEHIND_PROXY === "true" }));
 
   return {
     url: baseUrl,

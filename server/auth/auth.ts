@@ -39,6 +39,7 @@ export function createAuth(options: AuthOptions) {
     telemetry: { enabled: false },
     trustedOrigins: [baseUrl, ...(options.extraOrigins ?? [])],
     rateLimit: { enabled: options.rateLimit ?? true },
+    advanced: { ipAddress: { ipAddressHeaders: ["x-forwarded-for"] } },
     database: drizzleAdapter(db, { provider: "pg", schema }),
     emailAndPassword: {
       enabled: true,

@@ -1,3 +1,4 @@
+import { readEnv } from "../../server/env";
 import { startServer, type RunningServer } from "../../server/start";
 
 /**
@@ -7,15 +8,16 @@ import { startServer, type RunningServer } from "../../server/start";
 export async function startTestServer(): Promise<RunningServer> {
   const url = process.env.TEST_DATABASE_URL;
   if (!url) throw new Error("TEST_DATABASE_URL is not set: run the tests through `npm test`, which starts a test database.");
-  return startServer({
-    NODE_ENV: "test",
-    DATABASE_URL: url,
-    HOST: "127.0.0.1",
-    PORT: 0,
-    AUTH_SECRET: "integration-tests-only-secret-0123456789abcdef",
-    MAIL_FAKE_PORT: 0,
-    MAIL_FROM: "Panelproof <bench@panelproof.localhost>",
-  });
+  return startServer(
+    readEnv({
+      NODE_ENV: "test",
+      DATABASE_URL: url,
+      HOST: "127.0.0.1",
+      PORT: "0",
+      AUTH_SECRET: "integration-tests-only-secret-0123456789abcdef",
+      MAIL_FAKE_PORT: "0",
+    }),
+  );
 }
 
 /** A unique address per test run, so tests sharing one database never collide. */
