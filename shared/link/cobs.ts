@@ -1,0 +1,75 @@
+/**
+ * Consistent Overhead Byte Stuffing (Cheshire and Baker, "Consistent Overhead Byte Stuffing",
+ * IEEE/ACM Transactions on Networking 7(2), 1999). The encoded form contains no 0x00, so 0x00
+ * can end every frame. Overhead is one byte per 254 bytes, at most: a frame of up to 254 bytes
+ * always encodes to exactly one byte more, which lets an 8-bit board size its buffers exactly.
+ *
+ * Neither function adds or expects the 0x00 delimiter; the link codec does that.
+ */
+
+/** Largest encoded length for `length` input bytes. */
+export function cobsMaxEncodedLength(length: number): number {
+  return length + 1 + Math.floor(length / 254);
+}
+
+export function cobsEncode(input: Uint8Array): Uint8Array {
+  const output = new Uint8Array(cobsMaxEncodedLength(input.length));
+  let codeIndex = 0;
+  let code = 1;
+  let write = 1;
+  for (let read = 0; read < input.length; read++) {
+    const byte = input[read];
+    if (byte === 0) {
+      output[codeIndex] = code;
+      codeIndex = write++;
+      code = 1;
+      continue;
+    }
+    output[write++] = byte;
+    code++;
+    // A full block of 254 non-zero bytes closes without an implied zero; a new block starts
+    // only if more input follows, so 254 non-zero bytes encode to 255 bytes, not 256.
+    if (code === 0xff && read + 1 < input.length) {
+      output[codeIndex] = code;
+      codeIndex = write++;
+      code = 1;
+    }
+  }
+  output[codeIndex] = code;
+  return output.subarray(0, write);
+}
+
+export type CobsDecodeResult =
+  | { ok: true; bytes: Uint8Array }
+  | { ok: false; reason: "zero_byte" | "truncated"; detail: string };
+
+/**
+ * Decodes one COBS block sequence. Never throws: a 0x00 inside, or a code byte that points past
+ * the end (the frame was cut short, or noise hit a code byte), is reported instead.
+ */
+export function cobsDecode(input: Uint8Array): CobsDecodeResult {
+  const output = new Uint8Array(input.length);
+  let write = 0;
+  let read = 0;
+  while (read < input.length) {
+    const code = input[read];
+    if (code === 0) return { ok: false, reason: "zero_byte", detail: `0x00 inside encoded data at byte ${read}` };
+    const blockEnd = read + code;
+    if (blockEnd > input.length) {
+      return {
+        ok: false,
+        reason: "truncated",
+        detail: `code byte ${code} at byte ${read} needs ${code - 1} more bytes, only ${input.length - read - 1} left`,
+      };
+    }
+    for (let index = read + 1; index < blockEnd; index++) {
+      const byte = input[index];
+      if (byte === 0) return { ok: false, reason: "zero_byte", detail: `0x00 inside encoded data at byte ${index}` };
+      output[write++] = byte;
+    }
+    read = blockEnd;
+    // Every block except a full one (code 0xff) and the last one stands for a following zero.
+    if (code !== 0xff && read < input.length) output[write++] = 0;
+  }
+  return { ok: true, bytes: output.subarray(0, write) };
+}
