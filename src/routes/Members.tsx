@@ -73,7 +73,13 @@ function MemberList({ workshop, canChange }: { workshop: WorkshopDetail; canChan
               {canChange && (
                 <td className="py-2 text-right">
                   {m.userId !== me.data?.user.id && (
-                    <Button tone="danger" className="px-2 py-1 text-xs" onClick={() => remove.mutate(m.id)}>
+                    <Button
+                      tone="danger"
+                      className="px-2 py-1 text-xs"
+                      onClick={() => {
+                        if (window.confirm(`Remove ${m.name} from ${workshop.name}? They lose access at once.`)) remove.mutate(m.id);
+                      }}
+                    >
                       Remove
                     </Button>
                   )}
@@ -145,9 +151,10 @@ function InviteForm({ workshopId }: { workshopId: string }) {
       <form className="flex flex-col gap-4" onSubmit={submit} aria-label="Invite someone">
         <Field label="E-mail address" type="email" required value={email} onChange={(e) => setEmail(e.target.value)} />
         <Select label="Role" value={role} onChange={(e) => setRole(e.target.value as "builder" | "viewer")}>
-          <option value="builder">builder: changes panels, recordings and runs</option>
-          <option value="viewer">viewer: reads only</option>
+          <option value="builder">builder</option>
+          <option value="viewer">viewer</option>
         </Select>
+        <p className="-mt-2 text-sm text-ink-soft">{ROLE_DESCRIPTIONS[role]}</p>
         <ErrorNote error={invite.error} />
         {sentTo && <DoneNote>Invitation sent to {sentTo}.</DoneNote>}
         <Button tone="primary" type="submit" disabled={invite.isPending}>
