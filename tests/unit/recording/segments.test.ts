@@ -1,0 +1,134 @@
+import { describe, expect, it } from "vitest";
+import { stateAtFrames, type Frame } from "../../../shared/recording/frames";
+import {
+  decodeSegment,
+  encodeSegment,
+  findSegmentIndex,
+  framesOfSegments,
+  Segmenter,
+  segmentFrames,
+  stateAt,
+  type RecordingSegment,
+} from "../../../shared/recording/segments";
+import { recordingFailure } from "./helpers";
+
+/** Ten minutes of a climbing, flashing, gear-cycling rig, with a quiet gap in the middle. */
+function syntheticFrames(): Frame[] {
+  const frames: Frame[] = [{ t: 0, v: { "alt.baro_ft": 0, "gear.handle": "DOWN", "annun.flash": false, "xpdr.code": "1200" } }];
+  for (let t = 100; t < 600_000; t += 100) {
+    if (t > 200_000 && t < 260_000) continue;
+    const v: Frame["v"] = { "alt.baro_ft": Math.round(t / 10) };
+    if (t % 500 === 0) v["annun.flash"] = t % 1000 === 0;
+    if (t === 30_000) v["gear.handle"] = "UP";
+    if (t === 400_000) v["gear.handle"] = "DOWN";
+    if (t % 60_000 === 0) v["xpdr.code"] = String(1000 + t / 60_000);
+    frames.push({ t, v });
+  }
+  return frames;
+}
+
+/** Counts reads of each segment's payload, the only part of a segment that needs decoding. */
+function counted(segments: RecordingSegment[]): { segments: RecordingSegment[]; reads: number[] } {
+  const reads = segments.map(() => 0);
+  const watched = segments.map((segment, i) => {
+    const copy = { ...segment };
+    Object.defineProperty(copy, "payload", {
+      get: () => {
+        reads[i]++;
+        return segment.payload;
+      },
+    });
+    return copy;
+  });
+  return { segments: watched, reads };
+}
+
+describe("segments", () => {
+  const frames = syntheticFrames();
+  const segments = segmentFrames(frames, { segmentMs: 5_000 });
+
+  it("cut the stream into aligned windows of a few seconds, skipping empty ones", () => {
+    expect(segments[0].startMs).toBe(0);
+    expect(segments.every((s) => s.startMs % 5_000 === 0 && s.endMs === s.startMs + 5_000)).toBe(true);
+    expect(segments.map((s) => s.index)).toEqual(segments.map((_, i) => i));
+    // 120 windows in ten minutes, less the 11 windows of the quiet minute (200 s to 260 s, both ends partly used).
+    expect(segments).toHaveLength(120 - 11);
+    expect(segments.reduce((n, s) => n + s.frameCount, 0)).toBe(frames.length);
+  });
+
+  it("each holds a keyframe: every channel's value just before the segment", () => {
+    for (const segment of segments) {
+      const decoded = decodeSegment(segment.payload);
+      expect(decoded.startMs).toBe(segment.startMs);
+      expect({ ...decoded.keyframe }).toEqual({ ...stateAtFrames(frames, segment.startMs - 1) });
+      expect(decoded.frames.length).toBe(segment.frameCount);
+      expect(decoded.frames[0].t).toBe(segment.firstFrameMs);
+    }
+    expect(Object.keys(decodeSegment(segments[50].payload).keyframe).sort()).toEqual([
+      "alt.baro_ft",
+      "annun.flash",
+      "gear.handle",
+      "xpdr.code",
+    ]);
+  });
+
+  it("stateAt gives the same state as folding every frame, at any instant", () => {
+    const instants = [0, 1, 99, 100, 4_999, 5_000, 30_000, 199_999, 230_000, 260_000, 260_050, 599_900, 700_000];
+    for (let t = 0; t < 620_000; t += 7_919) instants.push(t);
+    for (const t of instants) {
+      expect({ ...stateAt(segments, t) }, `t=${t}`).toEqual({ ...stateAtFrames(frames, t) });
+    }
+  });
+
+  it("stateAt decodes exactly one segment: the one holding the instant", () => {
+    for (const t of [0, 12_345, 230_000, 333_333, 599_999, 10_000_000]) {
+      const watched = counted(segments);
+      stateAt(watched.segments, t);
+      const expectedIndex = findSegmentIndex(segments, t);
+      expect(watched.reads.reduce((a, b) => a + b, 0), `t=${t}`).toBe(1);
+      expect(watched.reads[expectedIndex]).toBe(1);
+      expect(segments[expectedIndex].startMs).toBeLessThanOrEqual(t);
+      if (expectedIndex + 1 < segments.length) expect(segments[expectedIndex + 1].startMs).toBeGreaterThan(t);
+    }
+  });
+
+  it("before the first frame there is no state and nothing is decoded", () => {
+    const late = segmentFrames([{ t: 12_000, v: { "gear.handle": "UP" } }]);
+    const watched = counted(late);
+    expect({ ...stateAt(watched.segments, 9_000) }).toEqual({});
+    expect(watched.reads).toEqual([0]);
+    expect({ ...stateAt(late, 12_000) }).toEqual({ "gear.handle": "UP" });
+  });
+
+  it("give back every frame unchanged", () => {
+    expect([...framesOfSegments(segments)]).toEqual(frames);
+  });
+
+  it("split a busy window so one segment never holds more than the frame cap", () => {
+    const busy: Frame[] = Array.from({ length: 1000 }, (_, i) => ({ t: i, v: { n: i } }));
+    const split = segmentFrames(busy, { segmentMs: 5_000, maxFramesPerSegment: 300 });
+    expect(split.map((s) => [s.startMs, s.frameCount])).toEqual([
+      [0, 300],
+      [300, 300],
+      [600, 300],
+      [900, 100],
+    ]);
+    expect({ ...stateAt(split, 650) }).toEqual({ n: 650 });
+    expect([...framesOfSegments(split)]).toEqual(busy);
+  });
+
+  it("compress well: a steady recording takes far less room than its JSON text", () => {
+    const payloadBytes = segments.reduce((n, s) => n + s.payload.length, 0);
+    const jsonBytes = frames.reduce((n, f) => n + JSON.stringify(f).length + 1, 0);
+    expect(payloadBytes).toBeLessThan(jsonBytes / 4);
+  });
+
+  it("refuse frames out of time order and payloads that are not segments", () => {
+    const segmenter = new Segmenter();
+    segmenter.push({ t: 10, v: { a: 1 } });
+    expect(() => segmenter.push({ t: 10, v: { a: 2 } })).toThrow(RangeError);
+    expect(recordingFailure(() => decodeSegment(new Uint8Array([1, 2, 3]))).code).toBe("invalid_segment");
+    const encoded = encodeSegment({ startMs: 5_000, keyframe: { a: 1 }, frames: [{ t: 5_001, v: { a: 2, b: "x" } }] });
+    expect(decodeSegment(encoded)).toEqual({ startMs: 5_000, keyframe: { a: 1 }, frames: [{ t: 5_001, v: { a: 2, b: "x" } }] });
+  });
+});
