@@ -8,6 +8,7 @@ import type { ServerEnv } from "./env";
 import type { Services } from "./http/context";
 import { startFakeSmtp, type FakeSmtp } from "./mail/fake-smtp";
 import { createSmtpMailer } from "./mail/mailer";
+import { UpgradeRouter } from "./realtime/upgrades";
 
 export interface RunningServer {
   url: string;
@@ -51,7 +52,9 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     extraOrigins,
     rateLimit: env.NODE_ENV === "production",
   });
-  const services: Services = { db, auth, baseUrl, outboxEnabled: fakeSmtp !== null, version };
+  const upgrades = new UpgradeRouter();
+  upgrades.attach(httpServer);
+  const services: Services = { db, auth, baseUrl, outboxEnabled: fakeSmtp !== null, version, upgrades, trustedOrigins };
   httpServer.on("request", createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins, behindProxy: env.BEHIND_PROXY === "true" }));
 
   return {

@@ -6,6 +6,7 @@ import type { Auth } from "../auth/auth";
 import type { Database } from "../db/client";
 import { member, organization } from "../db/schema";
 import type { Actor, Membership } from "../policies/actor";
+import type { UpgradeRouter } from "../realtime/upgrades";
 import { notFound, unauthenticated } from "./errors";
 
 export interface Services {
@@ -15,6 +16,10 @@ export interface Services {
   /** True when mail goes to the in-process fake and the Outbox page is on. */
   outboxEnabled: boolean;
   version: string;
+  /** WebSocket endpoints register here (server/realtime/upgrades.ts). */
+  upgrades: UpgradeRouter;
+  /** Origins a browser may connect from (the app's own, plus configured extras). */
+  trustedOrigins: string[];
 }
 
 export function authHeaders(req: Request): Headers {
