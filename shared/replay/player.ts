@@ -154,8 +154,8 @@ export class Player {
 }
 
 /**
- * Plays a whole source at `speed` without waiting, advancing a manual clock in `stepMs`
- * wall steps: the same code path as a live replay, for tests and offline judging.
+ * Plays a whole source at `speed` without waiting, on a manual clock: the same code path as
+ * a live replay, for tests and offline judging.
  */
 export function replaySync(source: FrameSource, options: { speed?: number; stepMs?: number } = {}) {
   const wall = new ManualClock();
@@ -167,11 +167,11 @@ export function replaySync(source: FrameSource, options: { speed?: number; stepM
   });
   if (options.speed) player.setSpeed(options.speed);
   player.play();
-  const stepMs = options.stepMs ?? 1;
   let guard = 0;
   while (player.state === "playing") {
-    const delay = player.wallDelayToNextFrame();
-    wall.advance(Math.min(Math.max(delay, 0), stepMs === Infinity ? delay : Math.max(delay, stepMs)));
+    // Without stepMs, wake exactly when the next frame falls due; with it, wake every
+    // stepMs of wall time like a coarse host timer, so late frames get coalesced.
+    wall.advance(options.stepMs ?? Math.max(0, player.wallDelayToNextFrame()));
     player.tick();
     if (++guard > 50_000_000) throw new Error("replaySync did not finish");
   }
