@@ -142,6 +142,13 @@ ensure_chromium() {
   die "Chromium is missing for the end-to-end tests. Install Debian's package: 'sudo apt-get install chromium'."
 }
 
+# Debian's socat makes the pseudo-terminal pairs the serial-link tests run over.
+ensure_socat() {
+  command -v socat >/dev/null && return 0
+  if is_root && command -v apt-get >/dev/null; then apt_install socat; command -v socat >/dev/null && return 0; fi
+  die "socat is missing for the serial-link tests. Install Debian's package: 'sudo apt-get install socat'."
+}
+
 # A secret per checkout for signing sessions, made once and kept in .data/.
 ensure_auth_secret() {
   mkdir -p .data

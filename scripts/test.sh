@@ -8,6 +8,7 @@ source scripts/lib.sh
 ensure_node
 ensure_deps
 ensure_chromium
+ensure_socat
 
 if [ -z "${TEST_DATABASE_URL:-}" ]; then
   ensure_postgres
