@@ -1,0 +1,168 @@
+import type { AddressInfo } from "node:net";
+import { quantileSorted } from "simple-statistics";
+import { WebSocket, WebSocketServer } from "ws";
+import { encodeLinkFrame } from "../shared/link/codec";
+import type { ChannelValue } from "../shared/link/messages";
+import { packValueUpdates } from "../shared/link/pack";
+import type { Frame } from "../shared/recording/frames";
+import { ArrayFrameSource } from "../shared/replay/frame-source";
+import { Player } from "../shared/replay/player";
+import { performanceClock } from "../shared/replay/virtual-clock";
+import { ReplayScheduler } from "../server/bench/scheduler";
+import type { BenchReport, BenchRow } from "./harness";
+
+const CHANNELS = 500;
+const RATE_HZ = 60;
+const LINKS = 20;
+const WALL_SECONDS = Number(process.env.BENCH_REPLAY_SECONDS ?? 6);
+
+/** A recording where about a tenth of 500 channels change each 60 Hz frame (a busy cockpit). */
+function makeFrames(durationMs: number): Frame[] {
+  const frames: Frame[] = [];
+  let seed = 12345;
+  const rnd = () => ((seed = (seed * 1103515245 + 12345) & 0x7fffffff) / 0x7fffffff);
+  for (let i = 0; i * (1000 / RATE_HZ) <= durationMs; i++) {
+    const v: Frame["v"] = {};
+    for (let c = 0; c < CHANNELS; c++) if (i === 0 || rnd() < 0.1) v[`ch.${c}`] = Math.round(rnd() * 10000) / 10;
+    frames.push({ t: Math.round(i * (1000 / RATE_HZ)), v });
+  }
+  return frames;
+}
+
+function toWire(frame: Frame, index: Map<string, number>, sequence: number): Buffer[] {
+  const values: ChannelValue[] = [];
+  for (const [name, value] of Object.entries(frame.v)) values.push({ channel: index.get(name)!, kind: "float", value: Math.fround(value as number) });
+  return packValueUpdates(values, { keyframe: false }).map((message) => Buffer.from(encodeLinkFrame({ address: 0, sequence: sequence & 0xff, message })));
+}
+
+async function withClients<T>(work: (send: (bytes: Buffer) => void, received: () => number) => Promise<T>): Promise<T> {
+  const server = new WebSocketServer({ port: 0, host: "127.0.0.1" });
+  await new Promise((r) => server.once("listening", r));
+  const port = (server.address() as AddressInfo).port;
+  let count = 0;
+  const clients = await Promise.all(
+    Array.from({ length: LINKS }, () => new Promise<WebSocket>((resolve) => {
+      const ws = new WebSocket(`ws://127.0.0.1:${port}`);
+      ws.on("message", () => count++);
+      ws.once("open", () => resolve(ws));
+    })),
+  );
+  while (server.clients.size < LINKS) await new Promise((r) => setTimeout(r, 5));
+  const send = (bytes: Buffer) => {
+    for (const c of server.clients) c.send(bytes);
+  };
+  try {
+    return await work(send, () => count);
+  } finally {
+    clients.forEach((c) => c.terminate());
+    await new Promise((r) => server.close(r));
+  }
+}
+
+async function replayAt(speed: number, frames: Frame[], index: Map<string, number>) {
+  return withClients(async (send, received) => {
+    const lateness: number[] = [];
+    let sequence = 0;
+    let messages = 0;
+    const player = new Player(new ArrayFrameSource(frames), performanceClock, {
+      frame(frame, info) {
+        const due = performance.now() - info.latenessMs;
+        for (const bytes of toWire(frame, index, sequence++)) {
+          send(bytes);
+          messages++;
+        }
+        // Lateness as a link sees it: from when the frame fell due to when its bytes were handed to the sockets.
+        lateness.push(performance.now() - due);
+      },
+      keyframe() {},
+    });
+    player.setSpeed(speed);
+    const scheduler = new ReplayScheduler(player);
+    const cpu0 = process.cpuUsage();
+    const t0 = performance.now();
+    player.play();
+    scheduler.kick();
+    while (player.state === "playing") await new Promise((r) => setTimeout(r, 50));
+    const wallMs = performance.now() - t0;
+    const cpu = process.cpuUsage(cpu0);
+    scheduler.stop();
+    const expected = messages * LINKS;
+    const deadline = performance.now() + 5000;
+    while (received() < expected && performance.now() < deadline) await new Promise((r) => setTimeout(r, 10));
+    lateness.sort((a, b) => a - b);
+    return {
+      p50: quantileSorted(lateness, 0.5),
+      p99: quantileSorted(lateness, 0.99),
+      max: lateness[lateness.length - 1],
+      cpuShare: (cpu.user + cpu.system) / 1000 / wallMs,
+      delivered: received() / Math.max(1, expected),
+      frames: lateness.length,
+    };
+  });
+}
+
+/** The most messages per second this machine pushes to the same 20 sockets, with the bytes pre-encoded. */
+async function bareBroadcastRate(wire: Buffer[]) {
+  return withClients(async (send, received) => {
+    const t0 = performance.now();
+    for (const bytes of wire) send(bytes);
+    const expected = wire.length * LINKS;
+    while (received() < expected) await new Promise((r) => setImmediate(r));
+    return wire.length / ((performance.now() - t0) / 1000);
+  });
+}
+
+/** The whole replay path (player, coalescing, link encoding, sockets) as fast as it goes: 16x with a 0 ms wake. */
+async function replayPathRate(frames: Frame[], index: Map<string, number>) {
+  return withClients(async (send, received) => {
+    let messages = 0;
+    let sequence = 0;
+    const wall = { t: 0, now() { return this.t; } };
+    const player = new Player(new ArrayFrameSource(frames), wall, {
+      frame(frame) {
+        for (const bytes of toWire(frame, index, sequence++)) {
+          send(bytes);
+          messages++;
+        }
+      },
+      keyframe() {},
+    });
+    const t0 = performance.now();
+    player.play();
+    while (player.state === "playing") {
+      wall.t += Math.max(0, player.wallDelayToNextFrame());
+      player.tick();
+    }
+    while (received() < messages * LINKS) await new Promise((r) => setImmediate(r));
+    return messages / ((performance.now() - t0) / 1000);
+  });
+}
+
+export async function run(): Promise<BenchReport> {
+  const index = new Map(Array.from({ length: CHANNELS }, (_, c) => [`ch.${c}`, c] as const));
+  const rows: BenchRow[] = [];
+  for (const speed of [1, 8]) {
+    const frames = makeFrames(WALL_SECONDS * 1000 * speed);
+    const r = await replayAt(speed, frames, index);
+    rows.push(
+      { metric: `lateness p50 at ${speed}x (${CHANNELS} channels, ${RATE_HZ} Hz, ${LINKS} WebSocket links)`, value: r.p50, unit: "ms" },
+      { metric: `lateness p99 at ${speed}x`, value: r.p99, unit: "ms", target: speed === 1 ? "< 4 ms" : undefined, met: speed === 1 ? r.p99 < 4 : undefined },
+      { metric: `lateness max at ${speed}x`, value: r.max, unit: "ms" },
+      { metric: `CPU used at ${speed}x`, value: r.cpuShare * 100, unit: "% of one core", note: `${r.frames} sends, ${(r.delivered * 100).toFixed(1)}% delivered` },
+    );
+  }
+  const frames = makeFrames(20_000);
+  const wire = frames.flatMap((f, i) => toWire(f, index, i));
+  const bare = await bareBroadcastRate(wire);
+  const path = await replayPathRate(frames, index);
+  rows.push({
+    metric: "replay path throughput (player + encoding + sockets)",
+    value: path,
+    unit: "messages/s",
+    baseline: bare,
+    ratio: path / bare,
+    target: ">= 0.7 of a bare ws broadcast of the same bytes",
+    met: path / bare >= 0.7,
+  });
+  return { topic: "replay", rows };
+}
