@@ -1,0 +1,121 @@
+import type { Change } from "../expect/types";
+import { MismatchSweep, type Piece } from "./sweep";
+import type { JudgedTrack, LinkGap, Mismatch } from "./types";
+
+export interface DiscreteRules<V> {
+  equal(expected: V, seen: V): boolean;
+  /** Size of a difference for "worst error" (0 when only "different" makes sense). */
+  error(expected: V, seen: V): number;
+  describe(value: V): string;
+}
+
+/**
+ * Judges one piecewise constant track (lamp, readout text, breaker, switch position) as
+ * reports arrive. `advance(t)` settles everything before `t`; `finish(end)` settles the rest.
+ */
+export class DiscreteTrackJudge<V> {
+  private readonly sweep: MismatchSweep;
+  private readonly seen: Change<V>[] = [];
+  private readonly gaps: LinkGap[] = [];
+  private cursor: number;
+  private expIndex = -1;
+  private seenIndex = -1;
+  /** The latest expected change still waiting for the panel to follow, for lag. */
+  private pending: { t: number; value: V } | null = null;
+  readonly lags: number[] = [];
+
+  constructor(
+    elementId: string,
+    track: JudgedTrack,
+    private readonly expected: readonly Change<V>[],
+    private readonly rules: DiscreteRules<V>,
+    lagBudgetMs: number,
+    startMs: number,
+  ) {
+    this.sweep = new MismatchSweep(elementId, track, lagBudgetMs, rules.error === zeroError);
+    this.cursor = startMs;
+  }
+
+  addSeen(t: number, value: V) {
+    const last = this.seen[this.seen.length - 1];
+    if (last && t < last.t) throw new RangeError(`seen reports must come in time order (${t} after ${last.t})`);
+    if (t < this.cursor) throw new RangeError(`a report at ${t} ms is older than what was already judged (${this.cursor} ms)`);
+    if (last && last.t === t) last.shows = value;
+    else this.seen.push({ t, shows: value });
+  }
+
+  addGap(gap: LinkGap) {
+    if (gap.toMs > gap.fromMs) this.gaps.push(gap);
+  }
+
+  private inGap(t: number) {
+    return this.gaps.some((g) => t >= g.fromMs && t < g.toMs);
+  }
+
+  /** Settles [cursor, t). */
+  advance(t: number) {
+    while (this.cursor < t) {
+      const a = this.cursor;
+      while (this.expIndex + 1 < this.expected.length && this.expected[this.expIndex + 1].t <= a) this.expIndex++;
+      while (this.seenIndex + 1 < this.seen.length && this.seen[this.seenIndex + 1].t <= a) this.seenIndex++;
+      let b = t;
+      const nextExp = this.expected[this.expIndex + 1]?.t;
+      const nextSeen = this.seen[this.seenIndex + 1]?.t;
+      if (nextExp !== undefined && nextExp < b) b = nextExp;
+      if (nextSeen !== undefined && nextSeen < b) b = nextSeen;
+      for (const g of this.gaps) {
+        if (g.fromMs > a && g.fromMs < b) b = g.fromMs;
+        if (g.toMs > a && g.toMs < b) b = g.toMs;
+      }
+      const exp = this.expected[this.expIndex];
+      const seen = this.seen[this.seenIndex];
+      const expChanged = exp !== undefined && exp.t === a;
+      const seenChanged = seen !== undefined && seen.t === a;
+      const cause: Piece["cause"] = expChanged && seenChanged ? "both" : expChanged ? "expected" : seenChanged ? "seen" : "none";
+      // Lag is the response to a change; the recording's first value is no change to follow.
+      if (expChanged && this.expIndex > 0 && !this.rules.equal(this.expected[this.expIndex - 1].shows, exp.shows)) {
+        this.pending = { t: a, value: exp.shows };
+      }
+      if (exp === undefined) {
+        // Nothing is expected yet (the recording has not set the channel): not judged.
+        this.sweep.feed({ from: a, to: b, noData: false, bad: false, error: 0, errorAt: a, expected: "", seen: "", cause });
+      } else if (seen === undefined || this.inGap(a)) {
+        this.sweep.feed({ from: a, to: b, noData: true, bad: false, error: 0, errorAt: a, expected: this.rules.describe(exp.shows), seen: "no data", cause });
+      } else {
+        const equal = this.rules.equal(exp.shows, seen.shows);
+        if (equal && this.pending && this.rules.equal(this.pending.value, exp.shows)) {
+          this.lags.push(a - this.pending.t);
+          this.pending = null;
+        }
+        this.sweep.feed({
+          from: a,
+          to: b,
+          noData: false,
+          bad: !equal,
+          error: equal ? 0 : this.rules.error(exp.shows, seen.shows),
+          errorAt: a,
+          expected: this.rules.describe(exp.shows),
+          seen: this.rules.describe(seen.shows),
+          cause,
+        });
+      }
+      this.cursor = b;
+    }
+  }
+
+  finish(endMs: number): Mismatch[] {
+    this.advance(endMs);
+    this.sweep.close(endMs, "none", false);
+    return this.sweep.take();
+  }
+
+  take(): Mismatch[] {
+    return this.sweep.take();
+  }
+
+  get noDataMs() {
+    return this.sweep.noDataMs;
+  }
+}
+
+export const zeroError = () => 0;

@@ -1,0 +1,235 @@
+import type { Element } from "../elements/kinds";
+import type { BreakerShows, ElementTimeline, ExpectedTimelines, LampShows } from "../expect/types";
+import { AngleTrackJudge } from "./angle";
+import { DiscreteTrackJudge, zeroError, type DiscreteRules } from "./discrete";
+import { FlashingDetector } from "./lamp-flashing";
+import { summarizeLags, type LagSummary } from "./statistics";
+import type { ElementStatus, LinkGap, Mismatch, SeenSample, Tolerances } from "./types";
+
+const DEFAULT_TOLERANCES: Tolerances = { degrees: 2, level: 24, period: 0.2, lagBudgetMs: 200 };
+
+/** Tolerances from an element's definition, falling back to the kind's defaults. */
+export function tolerancesOf(el: Element | undefined, override: Partial<Tolerances> = {}): Tolerances {
+  const t: Tolerances = { ...DEFAULT_TOLERANCES };
+  if (el) {
+    t.lagBudgetMs = el.lagBudgetMs;
+    if (el.kind === "pointer") t.degrees = el.tolerance.degrees;
+    if (el.kind === "lamp") {
+      t.level = el.tolerance.level;
+      t.period = el.tolerance.period;
+    }
+  }
+  return { ...t, ...override };
+}
+
+function lampWords(l: LampShows): string {
+  if (l.state === "off") return "off";
+  if (l.state === "on") return l.level >= 255 ? "on" : `on at ${l.level}/255`;
+  return l.periodMs > 0 ? `flashing every ${Math.round(l.periodMs)} ms` : "flashing";
+}
+
+function lampRules(tol: Tolerances): DiscreteRules<LampShows> {
+  return {
+    equal(e, s) {
+      if (e.state !== s.state) return false;
+      if (e.state === "off") return true;
+      if (Math.abs(e.level - (s as { level: number }).level) > tol.level) return false;
+      if (e.state === "flashing" && s.state === "flashing" && s.periodMs > 0) return Math.abs(s.periodMs - e.periodMs) <= tol.period * e.periodMs;
+      return true;
+    },
+    error: zeroError,
+    describe: lampWords,
+  };
+}
+
+const textRules: DiscreteRules<string> = { equal: (e, s) => e === s, error: zeroError, describe: (v) => (v === "" ? "blank" : `"${v}"`) };
+const breakerRules: DiscreteRules<BreakerShows> = { equal: (e, s) => e === s, error: zeroError, describe: (v) => v };
+const positionRules: DiscreteRules<string> = { equal: (e, s) => e === s, error: zeroError, describe: (v) => v };
+
+export interface ElementResult {
+  elementId: string;
+  label: string;
+  kind: string;
+  status: ElementStatus;
+  mismatches: Mismatch[];
+  lag: LagSummary;
+  /** Time with no seen data while something was expected, in ms. */
+  noDataMs: number;
+  reports: number;
+}
+
+/**
+ * Judges one element, live or offline: feed seen samples and link gaps in time order, call
+ * `advance(t)` as time passes (live) and `finish(end)` once. Offline judging is the same calls
+ * in one go, so a stored seen log judged again gives what the live run gave.
+ */
+export class ElementJudge {
+  private readonly lamp?: DiscreteTrackJudge<LampShows>;
+  private readonly flashing?: FlashingDetector;
+  private readonly text?: DiscreteTrackJudge<string>;
+  private readonly breaker?: DiscreteTrackJudge<BreakerShows>;
+  private readonly position?: DiscreteTrackJudge<string>;
+  private readonly angle?: AngleTrackJudge;
+  private readonly mismatches: Mismatch[] = [];
+  private reports = 0;
+  private lastSeenT = -Infinity;
+  /** Every lag measured (expected change to matching report), once finished. */
+  lagSamples: number[] = [];
+
+  constructor(
+    private readonly timeline: ElementTimeline,
+    private readonly tol: Tolerances,
+    startMs: number,
+  ) {
+    const id = timeline.id;
+    const tr = timeline.tracks;
+    if (tr.lamp) {
+      this.lamp = new DiscreteTrackJudge(id, "lamp", tr.lamp, lampRules(tol), tol.lagBudgetMs, startMs);
+      const periods = [...new Set(tr.lamp.flatMap((c) => (c.shows.state === "flashing" ? [c.shows.periodMs] : [])))];
+      this.flashing = new FlashingDetector(periods, tol.period);
+    }
+    if (tr.text) this.text = new DiscreteTrackJudge(id, "text", tr.text, textRules, tol.lagBudgetMs, startMs);
+    if (tr.breaker) this.breaker = new DiscreteTrackJudge(id, "breaker", tr.breaker, breakerRules, tol.lagBudgetMs, startMs);
+    if (tr.position) this.position = new DiscreteTrackJudge(id, "position", tr.position, positionRules, tol.lagBudgetMs, startMs);
+    if (timeline.angle) this.angle = new AngleTrackJudge(id, timeline.angle, tol.degrees, tol.lagBudgetMs, startMs);
+  }
+
+  addSeen(sample: SeenSample) {
+    if (sample.t < this.lastSeenT) throw new RangeError(`element ${this.timeline.id}: report at ${sample.t} ms came after one at ${this.lastSeenT} ms`);
+    this.lastSeenT = sample.t;
+    this.reports++;
+    const s = sample.shows;
+    if (s.track === "lamp" && this.flashing) this.flashing.push(sample.t, s.lamp);
+    else if (s.track === "text") this.text?.addSeen(sample.t, s.text);
+    else if (s.track === "breaker") this.breaker?.addSeen(sample.t, s.breaker);
+    else if (s.track === "position") this.position?.addSeen(sample.t, s.position);
+    else if (s.track === "angle") this.angle?.addSeen(sample.t, s.angle);
+  }
+
+  addGap(gap: LinkGap) {
+    for (const j of [this.lamp, this.text, this.breaker, this.position, this.angle]) j?.addGap(gap);
+  }
+
+  advance(t: number) {
+    if (this.lamp && this.flashing) {
+      for (const s of this.flashing.release(t)) this.lamp.addSeen(s.t, s.lamp);
+      this.lamp.advance(this.flashing.settledUntil(t));
+    }
+    for (const j of [this.text, this.breaker, this.position, this.angle]) j?.advance(t);
+    for (const j of [this.lamp, this.text, this.breaker, this.position, this.angle]) if (j) this.mismatches.push(...j.take());
+  }
+
+  /** Mismatches settled so far (for live display), without removing them. */
+  get settled(): readonly Mismatch[] {
+    return this.mismatches;
+  }
+
+  finish(endMs: number, placeholder: boolean): ElementResult {
+    if (this.lamp && this.flashing) for (const s of this.flashing.release(Infinity)) this.lamp.addSeen(s.t, s.lamp);
+    for (const j of [this.lamp, this.text, this.breaker, this.position, this.angle]) if (j) this.mismatches.push(...j.finish(endMs));
+    this.mismatches.sort((a, b) => a.startMs - b.startMs || a.track.localeCompare(b.track));
+    const lags = [this.lamp, this.text, this.breaker, this.position].flatMap((j) => j?.lags ?? []);
+    this.lagSamples = lags;
+    const noDataMs = Math.max(0, ...[this.lamp, this.text, this.breaker, this.position, this.angle].map((j) => j?.noDataMs ?? 0));
+    return {
+      elementId: this.timeline.id,
+      label: this.timeline.label,
+      kind: this.timeline.kind,
+      status: statusOf({ placeholder, mismatches: this.mismatches.length, reports: this.reports, noDataMs, lagBudgetMs: this.tol.lagBudgetMs, exercised: exercised(this.timeline) }),
+      mismatches: this.mismatches,
+      lag: summarizeLags(lags),
+      noDataMs,
+      reports: this.reports,
+    };
+  }
+}
+
+/** Whether the recording ever changed what this element should show (otherwise it is untested). */
+function exercised(t: ElementTimeline): boolean {
+  const tracks = [t.tracks.lamp, t.tracks.text, t.tracks.breaker, t.tracks.position];
+  for (const tr of tracks) if (tr && new Set(tr.map((c) => JSON.stringify(c.shows))).size > 1) return true;
+  if (t.angle && new Set(t.angle.angle.map((a) => Math.round(a * 10))).size > 1) return true;
+  return false;
+}
+
+function statusOf(r: { placeholder: boolean; mismatches: number; reports: number; noDataMs: number; lagBudgetMs: number; exercised: boolean }): ElementStatus {
+  if (r.placeholder) return "placeholder";
+  if (r.mismatches > 0) return "fail";
+  if (r.reports === 0 || r.noDataMs > r.lagBudgetMs) return "no_data";
+  if (!r.exercised) return "untested";
+  return "pass";
+}
+
+export interface RunJudgement {
+  elements: ElementResult[];
+  mismatches: Mismatch[];
+  lag: LagSummary;
+  counts: Record<ElementStatus, number>;
+}
+
+/**
+ * A whole run: one judge per element of the panel(s). Seen samples for unknown elements are
+ * counted and ignored (the bench shows the count), never a crash.
+ */
+export class RunJudge {
+  private readonly judges = new Map<string, { judge: ElementJudge; placeholder: boolean }>();
+  unknownElementReports = 0;
+
+  constructor(
+    private readonly timelines: ExpectedTimelines,
+    tolerances: (elementId: string) => Tolerances,
+  ) {
+    for (const tl of timelines.elements) {
+      this.judges.set(tl.id, { judge: new ElementJudge(tl, tolerances(tl.id), timelines.startMs), placeholder: tl.placeholder });
+    }
+  }
+
+  addSeen(elementId: string, sample: SeenSample) {
+    const j = this.judges.get(elementId);
+    if (!j) {
+      this.unknownElementReports++;
+      return;
+    }
+    j.judge.addSeen(sample);
+  }
+
+  /** A link gap: every element it carries has no data in it. */
+  addGap(elementIds: Iterable<string>, gap: LinkGap) {
+    for (const id of elementIds) this.judges.get(id)?.judge.addGap(gap);
+  }
+
+  advance(t: number) {
+    for (const { judge } of this.judges.values()) judge.advance(t);
+  }
+
+  liveMismatches(): Mismatch[] {
+    return [...this.judges.values()].flatMap(({ judge }) => judge.settled);
+  }
+
+  finish(endMs = this.timelines.endMs): RunJudgement {
+    const judges = [...this.judges.values()];
+    const elements = judges.map(({ judge, placeholder }) => judge.finish(endMs, placeholder));
+    const counts = { pass: 0, fail: 0, untested: 0, no_data: 0, placeholder: 0 } as Record<ElementStatus, number>;
+    for (const e of elements) counts[e.status]++;
+    const judged = judges.filter((j) => !j.placeholder);
+    return {
+      elements,
+      mismatches: elements.flatMap((e) => e.mismatches).sort((a, b) => a.startMs - b.startMs),
+      lag: summarizeLags(judged.flatMap(({ judge }) => judge.lagSamples)),
+      counts,
+    };
+  }
+}
+
+/** Judges a stored seen log in one go (the same code as live). */
+export function judgeOffline(
+  timelines: ExpectedTimelines,
+  seen: Iterable<{ elementId: string; sample: SeenSample }>,
+  gaps: { elementIds: string[]; gap: LinkGap }[],
+  tolerances: (elementId: string) => Tolerances,
+): RunJudgement {
+  const judge = new RunJudge(timelines, tolerances);
+  for (const g of gaps) judge.addGap(g.elementIds, g.gap);
+  for (const s of seen) judge.addSeen(s.elementId, s.sample);
+  return judge.finish();
+}
