@@ -32,7 +32,7 @@ export class DiscreteTrackJudge<V> {
     lagBudgetMs: number,
     startMs: number,
   ) {
-    this.sweep = new MismatchSweep(elementId, track, lagBudgetMs, rules.error === zeroError);
+    this.sweep = new MismatchSweep(elementId, track, lagBudgetMs, rules.error === zeroError, (v) => rules.describe(v as V));
     this.cursor = startMs;
   }
 
@@ -78,9 +78,9 @@ export class DiscreteTrackJudge<V> {
       }
       if (exp === undefined) {
         // Nothing is expected yet (the recording has not set the channel): not judged.
-        this.sweep.feed({ from: a, to: b, noData: false, bad: false, error: 0, errorAt: a, expected: "", seen: "", cause });
+        this.sweep.feed({ from: a, to: b, noData: false, bad: false, error: 0, errorAt: a, expected: undefined, seen: undefined, cause });
       } else if (seen === undefined || this.inGap(a)) {
-        this.sweep.feed({ from: a, to: b, noData: true, bad: false, error: 0, errorAt: a, expected: this.rules.describe(exp.shows), seen: "no data", cause });
+        this.sweep.feed({ from: a, to: b, noData: true, bad: false, error: 0, errorAt: a, expected: exp.shows, seen: undefined, cause });
       } else {
         const equal = this.rules.equal(exp.shows, seen.shows);
         if (equal && this.pending && this.rules.equal(this.pending.value, exp.shows)) {
@@ -94,8 +94,8 @@ export class DiscreteTrackJudge<V> {
           bad: !equal,
           error: equal ? 0 : this.rules.error(exp.shows, seen.shows),
           errorAt: a,
-          expected: this.rules.describe(exp.shows),
-          seen: this.rules.describe(seen.shows),
+          expected: exp.shows,
+          seen: seen.shows,
           cause,
         });
       }

@@ -10,8 +10,9 @@ export interface Piece {
   /** Worst error inside the piece and where (degrees, levels, or 0 for "different"). */
   error: number;
   errorAt: number;
-  expected: string;
-  seen: string;
+  /** Raw values; turned into words only for the worst instant of a mismatch (words are costly). */
+  expected: unknown;
+  seen: unknown;
   /** What changed at `from`: the expected value, the seen value, or neither. */
   cause: "expected" | "seen" | "both" | "none";
 }
@@ -22,7 +23,7 @@ export interface Piece {
  * never changes the result, which is what makes live judging equal offline judging.
  */
 export class MismatchSweep {
-  private open: { start: number; cause: Piece["cause"]; worst: number; worstAt: number; expected: string; seen: string; errorIsLength: boolean } | null = null;
+  private open: { start: number; cause: Piece["cause"]; worst: number; worstAt: number; expected: unknown; seen: unknown; errorIsLength: boolean } | null = null;
   private readonly done: Mismatch[] = [];
   noDataMs = 0;
 
@@ -32,6 +33,7 @@ export class MismatchSweep {
     private readonly lagBudgetMs: number,
     /** Discrete tracks measure a mismatch by its length; pointers and levels by their error. */
     private readonly errorIsLength: boolean,
+    private readonly describe: (value: unknown) => string = String,
   ) {}
 
   feed(piece: Piece) {
@@ -73,8 +75,8 @@ export class MismatchSweep {
       startMs: o.start,
       endMs: at,
       worstError: o.errorIsLength ? length : o.worst,
-      expected: o.expected,
-      seen: o.seen,
+      expected: this.describe(o.expected),
+      seen: this.describe(o.seen),
       atMs: o.worstAt,
     });
   }

@@ -156,7 +156,7 @@ describe("live judging equals offline judging", () => {
     { maxLength: 80 },
   );
 
-  function toSamples(raw: fc.RecordValue<any>[]): { elementId: string; sample: SeenSample }[] {
+  function toSamples(raw: any[]): { elementId: string; sample: SeenSample }[] {
     return [...raw]
       .sort((a, b) => a.t - b.t)
       .map((r) => {
