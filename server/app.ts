@@ -8,6 +8,9 @@ import { invitationsRouter } from "./routes/invitations";
 import { meRouter } from "./routes/me";
 import { outboxRouter } from "./routes/outbox";
 import { workshopsRouter } from "./routes/workshops";
+import { airframesRouter } from "./routes/airframes";
+import { capturesRouter } from "./routes/captures";
+import { recordingsRouter } from "./routes/recordings";
 
 export interface AppOptions {
   /** Folder with the built client; served with a fallback to index.html for client routes. */
@@ -48,6 +51,9 @@ export function createApp(services: Services, options: AppOptions) {
   app.use("/api/health", healthRouter(services));
   app.use("/api/me", meRouter(services));
   app.use("/api/workshops", workshopsRouter(services));
+  app.use("/api/workshops", airframesRouter(services));
+  app.use("/api/workshops", recordingsRouter(services));
+  app.use("/api/workshops", capturesRouter(services));
   app.use("/api/invitations", invitationsRouter(services));
   app.use("/api/outbox", outboxRouter(services));
   app.use("/api", unknownApiRoute);

@@ -25,6 +25,30 @@ const schema = z.object({
   BEHIND_PROXY: z.enum(["true", "false"]).default("false"),
   /** Folder with the built client (vite build). Empty: API only. */
   CLIENT_DIR: z.string().optional(),
+
+  // ---- recordings (issue 3) ----
+  /** Where uploaded files are kept: a local folder (default) or an S3-compatible bucket. */
+  STORAGE_DRIVER: z.enum(["local", "s3"]).default("local"),
+  /** Local driver's folder; relative paths are from the working directory. */
+  STORAGE_DIR: z.string().min(1).default(".data/storage"),
+  S3_ENDPOINT: z.string().url("must be a URL such as http://127.0.0.1:9000").optional(),
+  S3_BUCKET: z.string().min(3, "must be a bucket name").max(63).optional(),
+  S3_ACCESS_KEY_ID: z.string().min(1).optional(),
+  S3_SECRET_ACCESS_KEY: z.string().min(1).optional(),
+  S3_REGION: z.string().min(1).default("us-east-1"),
+  /** "true" for servers that want bucket names in the path (most self-hosted ones). */
+  S3_FORCE_PATH_STYLE: z.enum(["true", "false"]).default("true"),
+  /** Largest upload, in bytes (for gzip also the largest unpacked size). Default 512 MB. */
+  MAX_UPLOAD_BYTES: z.coerce.number().int().positive().max(2 ** 40).default(512 * 1024 * 1024),
+  /** Address live-capture UDP sockets bind to; 0.0.0.0 lets a simulator on another computer send. */
+  CAPTURE_UDP_HOST: z.string().min(1).default("127.0.0.1"),
+  /** How often (seconds, at least 0.5) idle import workers look for queued imports. */
+  IMPORT_POLL_SECONDS: z.coerce.number().min(0.5).max(60).default(1),
+}).superRefine((env, ctx) => {
+  if (env.STORAGE_DRIVER !== "s3") return;
+  for (const key of ["S3_BUCKET", "S3_ACCESS_KEY_ID", "S3_SECRET_ACCESS_KEY"] as const) {
+    if (!env[key]) ctx.addIssue({ code: "custom", path: [key], message: "is required when STORAGE_DRIVER=s3" });
+  }
 });
 
 export type ServerEnv = z.infer<typeof schema>;

@@ -9,6 +9,9 @@ import type { Services } from "./http/context";
 import { startFakeSmtp, type FakeSmtp } from "./mail/fake-smtp";
 import { createSmtpMailer } from "./mail/mailer";
 import { UpgradeRouter } from "./realtime/upgrades";
+import { createStorage } from "./storage";
+import { Jobs } from "./jobs/queue";
+import { CaptureManager } from "./capture/manager";
 
 export interface RunningServer {
   url: string;
@@ -54,7 +57,29 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
   });
   const upgrades = new UpgradeRouter();
   upgrades.attach(httpServer);
-  const services: Services = { db, auth, baseUrl, outboxEnabled: fakeSmtp !== null, version, upgrades, trustedOrigins };
+  const storage = createStorage(env);
+  const jobs = new Jobs({
+    databaseUrl: env.DATABASE_URL,
+    db,
+    storage,
+    maxUploadBytes: env.MAX_UPLOAD_BYTES,
+    pollingIntervalSeconds: env.IMPORT_POLL_SECONDS,
+  });
+  await jobs.start();
+  const captures = new CaptureManager({ db, auth, upgrades, trustedOrigins, udpHost: env.CAPTURE_UDP_HOST });
+  const services: Services = {
+    db,
+    auth,
+    baseUrl,
+    outboxEnabled: fakeSmtp !== null,
+    version,
+    upgrades,
+    trustedOrigins,
+    storage,
+    jobs,
+    captures,
+    maxUploadBytes: env.MAX_UPLOAD_BYTES,
+  };
   httpServer.on("request", createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins, behindProxy: env.BEHIND_PROXY === "true" }));
 
   return {
@@ -64,6 +89,9 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     async close() {
       httpServer.closeAllConnections();
       await new Promise<void>((resolve) => httpServer.close(() => resolve()));
+      // Captures save what they caught and imports finish their transaction before the pool closes.
+      await captures.closeAll();
+      await jobs.stop();
       await fakeSmtp?.close();
       mailer.close();
       await db.$client.end();

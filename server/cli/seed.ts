@@ -1,8 +1,19 @@
-import { eq } from "drizzle-orm";
+import { randomUUID } from "node:crypto";
+import { readFileSync } from "node:fs";
+import { and, eq } from "drizzle-orm";
+import type { ChannelDefinition } from "../../shared/recording/channels";
+import { parseRecording } from "../../shared/recording/recording-file";
+import type { Database } from "../db/client";
+import { airframe, recording } from "../db/schema";
+import { RecordingWriter } from "../recordings/writer";
+import { storeScenario } from "../routes/recordings";
 import { createAuth } from "../auth/auth";
 import { connectDatabase } from "../db/client";
 import { member, organization, user } from "../db/schema";
 import { DEMO_PASSWORD, DEMO_PEOPLE, DEMO_WORKSHOP } from "./demo-data";
+
+const DEMO_SCENARIO = new URL("../../recordings/demo-engine-fire-drill.scenario.json", import.meta.url);
+const DEMO_RECORDING = new URL("../../recordings/demo-pattern-flight.ppr.jsonl", import.meta.url);
 
 /**
  * Loads the demo workshop: an invented club, its people and their roles.
@@ -43,6 +54,7 @@ export async function seedDemo(url: string, baseUrl = "http://127.0.0.1") {
       if (present.has(ids[person.email])) continue;
       await auth.api.addMember({ body: { userId: ids[person.email], role: person.role, organizationId: workshop.id } });
     }
+    await seedRecordings(db, workshop.id, ids[owner.email]);
     return { workshopId: workshop.id };
   } finally {
     await db.$client.end();
@@ -57,4 +69,53 @@ if (import.meta.url === `file://${process.argv[1]}`) {
   }
   await seedDemo(url);
   console.log("[seed] demo workshop is in place");
+}
+
+
+/**
+ * The invented airframe with its catalogue (the scenario's channels plus any the demo flight
+ * adds), the demo flight file and the recording generated from the scenario. Each is added
+ * only when missing, by name, so running the seed again changes nothing.
+ */
+async function seedRecordings(db: Database, workshopId: string, ownerId: string) {
+  const scenario = JSON.parse(readFileSync(DEMO_SCENARIO, "utf8")) as { airframe: string; name: string; channels: ChannelDefinition[] };
+  const flightText = readFileSync(DEMO_RECORDING, "utf8");
+  const flight = parseRecording(flightText);
+  const channels = [...scenario.channels];
+  for (const c of flight.header.channels) if (!channels.some((k) => k.name === c.name)) channels.push(c);
+
+  let [frame] = await db
+    .select()
+    .from(airframe)
+    .where(and(eq(airframe.workshopId, workshopId), eq(airframe.name, scenario.airframe)));
+  if (!frame) {
+    [frame] = await db
+      .insert(airframe)
+      .values({ id: randomUUID(), workshopId, name: scenario.airframe, description: "Invented light twin used by the demo workshop.", channels })
+      .returning();
+  }
+  const has = async (name: string) =>
+    (await db.select({ id: recording.id }).from(recording).where(and(eq(recording.workshopId, workshopId), eq(recording.name, name)))).length > 0;
+
+  if (!(await has("Pattern flight (demo)"))) {
+    await db.transaction(async (tx) => {
+      const writer = new RecordingWriter(tx, {
+        workshopId,
+        airframeId: frame.id,
+        name: "Pattern flight (demo)",
+        source: "file",
+        channels: flight.header.channels,
+        notes: flight.header.notes ?? null,
+        sampleRateHz: flight.header.sampleRateHz ?? null,
+        createdById: ownerId,
+        sizeBytes: Buffer.byteLength(flightText),
+      });
+      await writer.push(flight.frames);
+      await writer.finish({ durationMs: flight.header.durationMs });
+    });
+  }
+  const generatedName = `${scenario.name} (generated)`;
+  if (!(await has(generatedName))) {
+    await storeScenario({ db }, { workshopId, airframeId: frame.id, catalogue: frame.channels, name: generatedName, scenario, createdById: ownerId });
+  }
 }

@@ -19,3 +19,5 @@ export const outboxMessage = pgTable(
   },
   (table) => [index("outbox_message_received_at_idx").on(table.receivedAt)],
 );
+
+export * from "./recordings-schema";

@@ -7,6 +7,9 @@ import type { Database } from "../db/client";
 import { member, organization } from "../db/schema";
 import type { Actor, Membership } from "../policies/actor";
 import type { UpgradeRouter } from "../realtime/upgrades";
+import type { StorageDriver } from "../storage";
+import type { Jobs } from "../jobs/queue";
+import type { CaptureManager } from "../capture/manager";
 import { notFound, unauthenticated } from "./errors";
 
 export interface Services {
@@ -20,6 +23,14 @@ export interface Services {
   upgrades: UpgradeRouter;
   /** Origins a browser may connect from (the app's own, plus configured extras). */
   trustedOrigins: string[];
+  /** Uploaded files (recording sources). */
+  storage: StorageDriver;
+  /** Background jobs (imports). */
+  jobs: Jobs;
+  /** Live captures held by this process. */
+  captures: CaptureManager;
+  /** Largest upload in bytes (also the largest unpacked size of a gzip upload). */
+  maxUploadBytes: number;
 }
 
 export function authHeaders(req: Request): Headers {

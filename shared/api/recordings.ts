@@ -157,8 +157,18 @@ export const importJobView = z.object({
   frames: z.number().int(),
   recordingId: z.string().nullable(),
   /** On failure: why, and where (line or row, column, channel). */
-  error: z.object({ message: z.string(), where: z.string().nullable() }).nullable(),
+  error: z
+    .object({
+      message: z.string(),
+      where: z.string().nullable(),
+      /** Additive: the machine-readable reason (shared/recording/errors.ts RecordingErrorCode, or "internal"). */
+      code: z.string().optional(),
+    })
+    .nullable(),
   createdAt: z.string(),
+  /** Additive: the airframe and format of the import. */
+  airframeId: z.string().optional(),
+  format: z.enum(["ppr", "csv"]).optional(),
 });
 export type ImportJobView = z.infer<typeof importJobView>;
 
@@ -194,5 +204,19 @@ export const captureView = z.object({
   /** The latest value of every channel seen so far. */
   latest: z.record(z.string(), z.union([z.number(), z.boolean(), z.string()])),
   recordingId: z.string().nullable(),
+  // ---- additive (server side of issue 3) ----
+  /** Messages not recorded: arrived too late to place, or the capture was full. */
+  dropped: z.number().int().optional(),
+  airframeId: z.string().optional(),
+  /** Frames kept so far (while capturing). */
+  frames: z.number().int().optional(),
+  /**
+   * Only in the answer to POST /captures, shown once: exporters send it in every UDP message's
+   * `token` field, or as `?token=` on the WebSocket URL (docs/capture.md).
+   */
+  token: z.string().optional(),
 });
 export type CaptureView = z.infer<typeof captureView>;
+
+/** GET /captures: this workshop's captures, newest first (additive). */
+export const captureList = z.array(captureView);

@@ -1,0 +1,65 @@
+import type { Element } from "../elements/kinds";
+import { stepsToAngle } from "../elements/scale/motor";
+import type { InputEntry, SeenEntry } from "../link/messages";
+import type { SeenSample } from "./types";
+
+export type LinkReading =
+  | { ok: true; elementId: string; sample: SeenSample }
+  | { ok: false; reason: "unknown_element" | "wrong_kind" | "unknown_position" | "cannot_tell"; detail: string };
+
+/**
+ * Turns a link report into a seen sample for the judge. Element indices are positions in the
+ * panel definition's element list (docs/link-protocol.md); a report about an index the panel
+ * does not have, or of a kind that element cannot show, is refused with a reason (the bench
+ * counts these per link), never thrown.
+ */
+export function seenFromLink(elements: readonly Element[], entry: SeenEntry, t: number): LinkReading {
+  const el = elements[entry.element];
+  if (!el) return { ok: false, reason: "unknown_element", detail: `element index ${entry.element}: the panel has ${elements.length} elements` };
+  const wrong = (): LinkReading => ({ ok: false, reason: "wrong_kind", detail: `element ${el.id} is a ${el.kind}; it cannot report ${entry.kind}` });
+  switch (entry.kind) {
+    case "unknown":
+      return { ok: false, reason: "cannot_tell", detail: `element ${el.id} cannot tell what it shows` };
+    case "lamp_state":
+      if (el.kind !== "lamp" && el.kind !== "button") return wrong();
+      return {
+        ok: true,
+        elementId: el.id,
+        // A state report carries no period (0: "any"), and a lit lamp counts as full brightness.
+        sample: { t, shows: { track: "lamp", lamp: entry.state === "off" ? { state: "off" } : entry.state === "on" ? { state: "on", level: 255 } : { state: "flashing", periodMs: 0, level: 255 } } },
+      };
+    case "lamp_level":
+      if (el.kind !== "lamp" && el.kind !== "button") return wrong();
+      return { ok: true, elementId: el.id, sample: { t, shows: { track: "lamp", lamp: entry.level === 0 ? { state: "off" } : { state: "on", level: entry.level } } } };
+    case "pointer_angle":
+      if (el.kind !== "pointer") return wrong();
+      return { ok: true, elementId: el.id, sample: { t, shows: { track: "angle", angle: entry.centidegrees / 100 } } };
+    case "pointer_steps":
+      if (el.kind !== "pointer") return wrong();
+      if (!el.motor) return { ok: false, reason: "wrong_kind", detail: `pointer ${el.id} reports steps but has no motor profile to turn them into degrees` };
+      return { ok: true, elementId: el.id, sample: { t, shows: { track: "angle", angle: stepsToAngle(el.motor, entry.steps) } } };
+    case "readout":
+      if (el.kind !== "readout") return wrong();
+      return { ok: true, elementId: el.id, sample: { t, shows: { track: "text", text: entry.text } } };
+    case "breaker":
+      if (el.kind !== "breaker") return wrong();
+      return { ok: true, elementId: el.id, sample: { t, shows: { track: "breaker", breaker: entry.position } } };
+    case "switch": {
+      if (el.kind !== "switch" && el.kind !== "lever") return wrong();
+      const name = el.positions[entry.position];
+      if (name === undefined) return { ok: false, reason: "unknown_position", detail: `element ${el.id} has ${el.positions.length} positions; index ${entry.position} is none of them` };
+      return { ok: true, elementId: el.id, sample: { t, shows: { track: "position", position: name } } };
+    }
+  }
+}
+
+/** An input event (a switch or lever moved by hand) as a seen position. */
+export function inputFromLink(elements: readonly Element[], entry: InputEntry, t: number): LinkReading {
+  const el = elements[entry.element];
+  if (!el) return { ok: false, reason: "unknown_element", detail: `element index ${entry.element}: the panel has ${elements.length} elements` };
+  if (entry.kind !== "position") return { ok: false, reason: "wrong_kind", detail: `${entry.kind} inputs are not judged as positions` };
+  if (el.kind !== "switch" && el.kind !== "lever") return { ok: false, reason: "wrong_kind", detail: `element ${el.id} is a ${el.kind}; it has no positions` };
+  const name = el.positions[entry.position];
+  if (name === undefined) return { ok: false, reason: "unknown_position", detail: `element ${el.id} has ${el.positions.length} positions; index ${entry.position} is none of them` };
+  return { ok: true, elementId: el.id, sample: { t, shows: { track: "position", position: name } } };
+}
