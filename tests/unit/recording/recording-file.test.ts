@@ -1,5 +1,6 @@
 import { crc32 as referenceCrc32 } from "crc";
 import { gzipSync } from "fflate";
+import fc from "fast-check";
 import seedrandom from "seedrandom";
 import { describe, expect, it } from "vitest";
 import type { ChannelDefinition, ChannelValue } from "../../../shared/recording/channels";
@@ -285,6 +286,59 @@ describe("writer", () => {
   it("refuses to write NaN or infinity rather than writing null", () => {
     expect(recordingFailure(() => serializeFrame({ t: 0, v: { "alt.baro_ft": Number.NaN } })).code).toBe("not_finite");
     expect(recordingFailure(() => serializeFrame({ t: -1, v: {} })).code).toBe("invalid_frame");
+  });
+
+  it("encodes then parses any recording to the same values, cut anywhere (fast-check)", () => {
+    const kinds = fc.constantFrom("number", "boolean", "enum", "text");
+    const recording = fc
+      .array(kinds, { minLength: 1, maxLength: 6 })
+      .chain((channelKinds) => {
+        const channels: ChannelDefinition[] = channelKinds.map((kind, i) =>
+          kind === "enum" ? { name: `c.k${i}`, kind, values: ["OFF", "ON", "AUTO", "TEST"] } : ({ name: `c.k${i}`, kind } as ChannelDefinition),
+        );
+        const valueOf = (c: ChannelDefinition): fc.Arbitrary<ChannelValue> =>
+          c.kind === "number"
+            ? fc.double({ noNaN: true, noDefaultInfinity: true }).filter((n) => !Object.is(n, -0))
+            : c.kind === "boolean"
+              ? fc.boolean()
+              : c.kind === "enum"
+                ? fc.constantFrom(...c.values)
+                : fc.string({ unit: "binary", maxLength: 20 });
+        const frame = fc.tuple(fc.integer({ min: 1, max: 10_000 }), fc.tuple(...channels.map((c) => fc.option(valueOf(c)))));
+        return fc.tuple(fc.constant(channels), fc.array(frame, { minLength: 1, maxLength: 30 }), fc.nat());
+      })
+      .map(([channels, rawFrames, cutSeed]) => {
+        // Keep only real changes, as the format requires: a frame holds what changed.
+        const state = new Map<string, ChannelValue>();
+        const frames: Frame[] = [];
+        let t = 0;
+        for (const [dt, values] of rawFrames) {
+          t += dt;
+          const v: Record<string, ChannelValue> = {};
+          values.forEach((value, i) => {
+            if (value === null) return;
+            const name = channels[i].name;
+            if (!state.has(name) || !Object.is(state.get(name), value)) v[name] = value;
+          });
+          if (Object.keys(v).length === 0) continue;
+          for (const [k, value] of Object.entries(v)) state.set(k, value);
+          frames.push({ t, v });
+        }
+        return { channels, frames, cutSeed };
+      })
+      // A header with no frames is refused on purpose (an empty recording); see the bad-input tests.
+      .filter((r) => r.frames.length > 0);
+    fc.assert(
+      fc.property(recording, ({ channels, frames, cutSeed }) => {
+        const header: RecordingHeader = { format: "panelproof-recording", version: 1, airframe: "property rig", channels };
+        const text = writeRecording(header, frames);
+        const cut = cutSeed % (text.length + 1);
+        const parsed = parseRecording([text.slice(0, cut), text.slice(cut)]);
+        expect(parsed.header).toEqual(header);
+        expect(parsed.frames).toEqual(frames);
+      }),
+      { numRuns: 200 },
+    );
   });
 
   it("round-trips randomly generated recordings (seeded property test, 150 cases)", () => {
