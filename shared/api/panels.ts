@@ -1,0 +1,75 @@
+import { z } from "zod";
+import { ELEMENT_KINDS } from "../elements/kinds";
+import { panel } from "../panel/schema";
+import { entityId } from "./workshops";
+
+/**
+ * The panels API contract (issue 4), shared by the server's routes and the client. All routes
+ * live under /api/workshops/:workshopId. Viewers read; builders and owners change
+ * (ability "bench.write"). A panel's whole definition (shared/panel/schema.ts) is stored and
+ * replaced as one validated document; element edits in the UI change the document and PUT it.
+ */
+
+export const panelSummary = z.object({
+  id: z.string(),
+  /** The definition's own identifier (`panel.id`), unique in the workshop. */
+  slug: z.string(),
+  name: z.string(),
+  airframeId: z.string(),
+  airframeName: z.string(),
+  elementCount: z.number().int(),
+  placeholderCount: z.number().int(),
+  kinds: z.record(z.enum(ELEMENT_KINDS), z.number().int()),
+  hasPhoto: z.boolean(),
+  /** Set on a panel made by mirroring another. */
+  mirrorOf: z.string().nullable(),
+  createdBy: z.string().nullable(),
+  updatedAt: z.string(),
+});
+export type PanelSummary = z.infer<typeof panelSummary>;
+
+/** GET /panels/:panelId */
+export const panelDetail = panelSummary.extend({ definition: panel });
+export type PanelDetail = z.infer<typeof panelDetail>;
+
+/** POST /panels (create or import a definition): the airframe is the workshop's airframe row. */
+export const createPanelBody = z.object({ airframeId: entityId, definition: z.unknown() }).strict();
+
+/** PUT /panels/:panelId: replace the definition (422 with every problem's path when invalid). */
+export const replacePanelBody = z.object({ definition: z.unknown() }).strict();
+
+/** POST /panels/:panelId/duplicate and /mirror */
+export const copyPanelBody = z
+  .object({
+    name: z.string().trim().min(1).max(80).optional(),
+    /** New definition identifier; default: the original's with "-copy" or "-right"/"-left". */
+    slug: z.string().max(40).regex(/^[a-z][a-z0-9-]*$/).optional(),
+  })
+  .strict();
+
+/** PUT /panels/:panelId/photo: raw image bytes (image/jpeg, image/png or image/webp), at most 15 MB; scaled to 2,000 px. */
+export const PHOTO_TYPES = ["image/jpeg", "image/png", "image/webp"] as const;
+export const PHOTO_MAX_BYTES = 15 * 1024 * 1024;
+
+/** PUT /panels/:panelId/markers: where each element sits on the photo, as fractions. */
+export const markersBody = z
+  .object({ markers: z.record(z.string(), z.object({ x: z.number().min(0).max(1), y: z.number().min(0).max(1) }).strict()) })
+  .strict();
+
+/** GET /panels/:panelId/expected?recordingId= : expected timelines and coverage for a preview. */
+export const expectedQuery = z.object({ recordingId: entityId }).strict();
+
+// ---- device tokens (a board on the network proves which panel it is) --------------------------
+
+export const deviceTokenView = z.object({
+  id: z.string(),
+  label: z.string(),
+  createdAt: z.string(),
+  lastUsedAt: z.string().nullable(),
+  revokedAt: z.string().nullable(),
+});
+export type DeviceTokenView = z.infer<typeof deviceTokenView>;
+
+/** POST /panels/:panelId/tokens: the token is in the answer once; only its hash is stored. */
+export const createTokenBody = z.object({ label: z.string().trim().min(1).max(60) }).strict();
+export const createdTokenView = deviceTokenView.extend({ token: z.string() });
