@@ -1,0 +1,2 @@
+export * from "./airframe";
+export * from "./panels";
