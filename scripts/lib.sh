@@ -149,6 +149,24 @@ ensure_socat() {
   die "socat is missing for the serial-link tests. Install Debian's package: 'sudo apt-get install socat'."
 }
 
+# Debian's AVR tool chain, Arduino core and simavr: the firmware tests build the example sketch for an
+# ATmega2560 and run it on an emulated board (firmware/README.md).
+AVR_PACKAGES="gcc-avr avr-libc arduino-core-avr simavr libsimavr-dev libsimavrparts1 libelf-dev"
+ensure_avr_tools() {
+  have_avr_tools() {
+    command -v avr-gcc >/dev/null && command -v avr-g++ >/dev/null && command -v avr-size >/dev/null \
+      && [ -f /usr/share/arduino/hardware/arduino/avr/cores/arduino/Arduino.h ] \
+      && [ -f /usr/include/simavr/sim_avr.h ] && [ -f /usr/include/libelf.h ]
+  }
+  have_avr_tools && return 0
+  if is_root && command -v apt-get >/dev/null; then
+    # shellcheck disable=SC2086
+    apt_install $AVR_PACKAGES
+    have_avr_tools && return 0
+  fi
+  die "The AVR tools for the firmware tests are missing. Install Debian's packages: 'sudo apt-get install $AVR_PACKAGES'."
+}
+
 # A secret per checkout for signing sessions, made once and kept in .data/.
 ensure_auth_secret() {
   mkdir -p .data

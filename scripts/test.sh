@@ -9,6 +9,7 @@ ensure_node
 ensure_deps
 ensure_chromium
 ensure_socat
+ensure_avr_tools
 
 if [ -z "${TEST_DATABASE_URL:-}" ]; then
   ensure_postgres
