@@ -341,7 +341,8 @@ export function encodeLinkFrame(frame: LinkFrame, options: EncodeLinkFrameOption
 
 class PayloadError extends Error {}
 
-const textDecoder = new TextDecoder("utf-8", { fatal: true });
+// ignoreBOM: a text field starting with EF BB BF is data, and must come back byte for byte.
+const textDecoder = new TextDecoder("utf-8", { fatal: true, ignoreBOM: true });
 
 class FrameReader {
   private readonly view: DataView;

@@ -53,8 +53,18 @@ export class EmulatedDeviceCore {
     this.queue.push(message);
   }
 
+  /** What each element showed in the last report, to send only what changed (as the firmware does). */
+  private readonly reported = new Map<number, string>();
+
   private seenReport(): LinkMessage {
-    return { type: "seen_report", appliedSequence: this.appliedSequence, seen: this.options.show(this.values) };
+    const changed = this.options.show(this.values).filter((entry) => {
+      const key = JSON.stringify(entry);
+      if (this.reported.get(entry.element) === key) return false;
+      this.reported.set(entry.element, key);
+      return true;
+    });
+    // An empty report still acknowledges the latest applied update (docs/link-protocol.md).
+    return { type: "seen_report", appliedSequence: this.appliedSequence, seen: changed };
   }
 
   /** A direct-link device announces itself at power-up. */
@@ -107,6 +117,7 @@ export class EmulatedDeviceCore {
         break;
       case "reset":
         this.values.clear();
+        this.reported.clear();
         this.queue.length = 0;
         this.appliedSequence = null;
         break;

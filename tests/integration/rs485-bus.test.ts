@@ -59,7 +59,8 @@ afterAll(async () => {
 
 describe("RS-485 bus over a real pseudo-terminal pair", () => {
   it("gives each of three devices its turn, gets exactly one answer each, and times out an absent one", async () => {
-    const master = new BusMaster(benchSide, { baud: 115_200, answerTimeoutMs: 30 });
+    // A generous answer timeout: the test machine may be busy; the absent device still times out.
+    const master = new BusMaster(benchSide, { baud: 115_200, answerTimeoutMs: 150 });
     for (const a of [1, 2, 3, 4]) master.addDevice(a); // nobody lives at 4
     const answers: { address: number; type: string }[] = [];
     master.onFrame((address, frame) => answers.push({ address, type: frame.message.type }));
@@ -81,20 +82,23 @@ describe("RS-485 bus over a real pseudo-terminal pair", () => {
   });
 
   it("reports what the device shows, acknowledging the update it applied", async () => {
-    const master = new BusMaster(benchSide, { baud: 115_200 });
+    const master = new BusMaster(benchSide, { baud: 115_200, answerTimeoutMs: 150 });
     master.addDevice(2);
     master.send(2, { type: "value_update", keyframeBegin: false, keyframeEnd: false, values: [{ channel: 3, kind: "float", value: 12.5 }] });
-    await master.turn(2);
-    const answer = await master.turn(2); // the poll's answer: a fresh seen report
+    const answer = await master.turn(2); // the update's answer: what changed
     expect(answer?.message.type).toBe("seen_report");
     if (answer?.message.type === "seen_report") {
       expect(answer.message.seen).toContainEqual({ element: 3, kind: "pointer_angle", centidegrees: 1250 });
       expect(answer.message.appliedSequence).not.toBeNull();
     }
+    // Nothing changed since: the poll's answer is an empty report that still acknowledges the update.
+    const quiet = await master.turn(2);
+    expect(quiet?.message).toMatchObject({ type: "seen_report", seen: [] });
+    if (quiet?.message.type === "seen_report" && answer?.message.type === "seen_report") expect(quiet.message.appliedSequence).toBe(answer.message.appliedSequence);
   });
 
   it("counts garbage on the line and carries on", async () => {
-    const master = new BusMaster(benchSide, { baud: 115_200 });
+    const master = new BusMaster(benchSide, { baud: 115_200, answerTimeoutMs: 150 });
     master.addDevice(1);
     const before = master.lineCounts.badCrc + master.lineCounts.truncated + master.lineCounts.badPayload + master.lineCounts.unknownType + master.lineCounts.badVersion + master.lineCounts.badAddress;
     garbageAfterNextFrame = true;
