@@ -34,15 +34,15 @@ describe("the tester tested: a virtual panel with known faults", () => {
     const readout = healthy.elements.find((e) => e.kind === "readout" && e.status === "pass");
     const faults: Fault[] = [{ kind: "pointer_offset", element: pointer.elementId, degrees: 15 }];
     if (readout) faults.push({ kind: "digit_dropped", element: readout.elementId, position: 0 });
-    // Pointers report every 5 ms here, so a report's staleness adds at most ~1.2 degrees to the offset.
     const result = runWith(flightGauges, faults, 5);
     const failing = result.elements.filter((e) => e.status === "fail").map((e) => e.elementId).sort();
     expect(failing).toEqual(faults.map((f) => ("element" in f ? f.element : "")).sort());
     const offset = result.mismatches.filter((m) => m.elementId === pointer.elementId);
     expect(offset.length).toBeGreaterThan(0);
-    const worst = Math.max(...offset.map((m) => m.worstError));
-    expect(worst).toBeGreaterThanOrEqual(15 - 1e-9);
-    expect(worst).toBeLessThan(16.5);
+    // While the needle rests, the error is the offset itself; while it moves, a held report adds its staleness.
+    const errors = offset.map((m) => m.worstError);
+    expect(Math.max(...errors)).toBeGreaterThanOrEqual(15 - 1e-9);
+    expect(offset.reduce((ms, m) => ms + m.endMs - m.startMs, 0)).toBeGreaterThan(0.8 * (demoFrames.at(-1)!.t - demoFrames[0].t));
   });
 
   it("a stuck lamp fails where the lamp should have changed, and only there", () => {
