@@ -1,5 +1,5 @@
 import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
-import { StrictMode } from "react";
+import { StrictMode, Suspense, lazy, type ReactNode } from "react";
 import { createRoot } from "react-dom/client";
 import { Navigate, RouterProvider, createBrowserRouter } from "react-router";
 import { AppShell } from "./components/AppShell";
@@ -14,7 +14,18 @@ import { SignUp } from "./routes/SignUp";
 import { WorkshopHome } from "./routes/WorkshopHome";
 import { WorkshopLayout } from "./routes/WorkshopLayout";
 import { Workshops } from "./routes/Workshops";
+import { Loading } from "./components/ui";
 import "./styles.css";
+
+// Recordings screens (tables, the plot, the scenario generator) load on first visit only.
+const Recordings = lazy(() => import("./routes/Recordings").then((m) => ({ default: m.Recordings })));
+const RecordingPage = lazy(() => import("./routes/RecordingPage").then((m) => ({ default: m.RecordingPage })));
+const ScenarioEditor = lazy(() => import("./routes/ScenarioEditor").then((m) => ({ default: m.ScenarioEditor })));
+const Airframes = lazy(() => import("./routes/Airframes").then((m) => ({ default: m.Airframes })));
+const AirframeChannels = lazy(() => import("./routes/AirframeChannels").then((m) => ({ default: m.AirframeChannels })));
+const CaptureStart = lazy(() => import("./routes/Capture").then((m) => ({ default: m.CaptureStart })));
+const CaptureLive = lazy(() => import("./routes/Capture").then((m) => ({ default: m.CaptureLive })));
+const later = (screen: ReactNode) => <Suspense fallback={<Loading what="Opening" />}>{screen}</Suspense>;
 
 const queryClient = new QueryClient({
   defaultOptions: { queries: { retry: 1, refetchOnWindowFocus: false, staleTime: 10_000 } },
@@ -38,6 +49,13 @@ const router = createBrowserRouter([
         children: [
           { index: true, element: <WorkshopHome /> },
           { path: "members", element: <Members /> },
+          { path: "recordings", element: later(<Recordings />) },
+          { path: "recordings/compose", element: later(<ScenarioEditor />) },
+          { path: "recordings/capture", element: later(<CaptureStart />) },
+          { path: "recordings/capture/:captureId", element: later(<CaptureLive />) },
+          { path: "recordings/airframes", element: later(<Airframes />) },
+          { path: "recordings/airframes/:airframeId", element: later(<AirframeChannels />) },
+          { path: "recordings/:recordingId", element: later(<RecordingPage />) },
         ],
       },
     ],

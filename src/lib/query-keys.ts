@@ -7,4 +7,15 @@ export const queryKeys = {
   invitations: (id: string) => ["workshops", id, "invitations"] as const,
   invitationPreview: (id: string) => ["invitations", id] as const,
   outbox: ["outbox"] as const,
+  // Recordings (issue 3): everything inside a workshop starts with ["workshops", id].
+  airframes: (id: string) => ["workshops", id, "airframes"] as const,
+  airframe: (id: string, airframeId: string) => ["workshops", id, "airframes", airframeId] as const,
+  recordings: (id: string) => ["workshops", id, "recordings"] as const,
+  recording: (id: string, recordingId: string) => ["workshops", id, "recordings", recordingId] as const,
+  recordingSeries: (id: string, recordingId: string, channels: readonly string[], fromMs: number | null, toMs: number | null) =>
+    ["workshops", id, "recordings", recordingId, "series", channels.join(","), fromMs, toMs] as const,
+  recordingState: (id: string, recordingId: string, t: number) => ["workshops", id, "recordings", recordingId, "state", t] as const,
+  imports: (id: string) => ["workshops", id, "imports"] as const,
+  importJob: (id: string, importId: string) => ["workshops", id, "imports", importId] as const,
+  capture: (id: string, captureId: string) => ["workshops", id, "captures", captureId] as const,
 };

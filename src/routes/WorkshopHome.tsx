@@ -1,6 +1,7 @@
-import { useOutletContext } from "react-router";
+import { Link, useOutletContext } from "react-router";
 import type { WorkshopDetail } from "../../shared/api/workshops";
 import { Card } from "../components/ui";
+import { useRecordings } from "../features/recordings/queries";
 
 const STEPS = [
   {
@@ -24,6 +25,8 @@ const STEPS = [
 export function WorkshopHome() {
   const w = useOutletContext<WorkshopDetail>();
   const canChange = w.abilities.includes("bench.write");
+  const recordings = useRecordings(w.id, false);
+  const recordingCount = recordings.data?.length ?? 0;
   return (
     <div className="grid gap-5 md:grid-cols-3">
       {STEPS.map((s, i) => (
@@ -36,9 +39,20 @@ export function WorkshopHome() {
             </span>
           }
         >
-          <p className="font-semibold">{s.empty}</p>
+          {s.title === "Recordings" && recordingCount > 0 ? (
+            <p className="font-semibold">
+              {recordingCount} {recordingCount === 1 ? "recording" : "recordings"} on the bench.
+            </p>
+          ) : (
+            <p className="font-semibold">{s.empty}</p>
+          )}
           <p className="mt-2 text-sm text-ink-soft">{s.next}</p>
-          {!canChange && <p className="mt-3 text-sm text-ink-soft">As a viewer you will see these when builders add them.</p>}
+          {s.title === "Recordings" && (
+            <Link to={`/w/${w.id}/recordings`} className="mt-3 inline-block text-sm font-semibold text-ink underline decoration-amber/60 underline-offset-2 hover:decoration-amber">
+              {canChange ? "Open recordings, upload or compose →" : "Open recordings →"}
+            </Link>
+          )}
+          {!canChange && s.title !== "Recordings" && <p className="mt-3 text-sm text-ink-soft">As a viewer you will see these when builders add them.</p>}
         </Card>
       ))}
       <p className="text-sm text-ink-soft md:col-span-3">

@@ -27,6 +27,9 @@ export function WorkshopLayout() {
         <NavLink to={`/w/${w.id}`} end className={tab}>
           Bench overview
         </NavLink>
+        <NavLink to={`/w/${w.id}/recordings`} className={tab}>
+          Recordings
+        </NavLink>
         <NavLink to={`/w/${w.id}/members`} className={tab}>
           People
         </NavLink>
