@@ -8,11 +8,20 @@ function fold(d: number): number {
   return r === -180 ? 180 : r;
 }
 
+/** Held values are looked at again at least this often (an absolute grid, so batching never matters). */
+const RECHECK_MS = 25;
+
 /**
- * Judges a pointer: expected angle piecewise linear (after slew limiting), seen angle held
- * from each report. Within a piece the difference is linear in time, so the instants where it
- * crosses the tolerance are solved exactly rather than sampled; full-circle pointers compare on
- * the shortest arc, crossings found on every turn the difference passes through.
+ * Judges a pointer. A needle may trail its value by up to the lag budget, so at each instant
+ * the needle's last reported angle is compared with everything the expected needle showed in
+ * the window [t − lag budget, t]: it is right if it lies within the tolerance of that stretch
+ * (on the shortest arc for full-circle pointers). A healthy panel that reports every few tens
+ * of milliseconds therefore passes even while its needle swings fast, and a needle that sticks
+ * or reports nothing while the value moves fails as soon as it falls out of the window.
+ *
+ * Instants looked at: every report, every expected point (and the moment it leaves the window),
+ * and a fixed grid while a value is held; all from the data alone, so live batches and offline
+ * judging meet the same instants.
  */
 export class AngleTrackJudge {
   private readonly sweep: MismatchSweep;
@@ -21,17 +30,21 @@ export class AngleTrackJudge {
   private readonly seenAngle: number[] = [];
   private readonly gaps: LinkGap[] = [];
   private cursor: number;
-  private expIndex = -1;
   private seenIndex = -1;
+  /** The instant the current piece started at, and what was decided there. */
+  private readonly piece: Piece = { from: 0, to: 0, noData: false, bad: false, error: 0, errorAt: 0, expected: undefined, seen: undefined, cause: "none" };
+  private nextPointIndex = 0;
+  private nextLeavingIndex = 0;
 
   constructor(
     elementId: string,
     private readonly track: AngleTrack,
     private readonly toleranceDeg: number,
-    lagBudgetMs: number,
+    private readonly lagBudgetMs: number,
     startMs: number,
   ) {
-    this.sweep = new MismatchSweep(elementId, "angle", lagBudgetMs, false, (v) => `${round(v as number)}°`);
+    // The lag budget is spent in the window already, so any stretch outside it counts.
+    this.sweep = new MismatchSweep(elementId, "angle", 0, false, (v) => `${round(v as number)}°`);
     this.cursor = startMs;
   }
 
@@ -51,130 +64,138 @@ export class AngleTrackJudge {
     if (gap.toMs > gap.fromMs) this.gaps.push(gap);
   }
 
-  /** The expected (travel) angle at t, approaching from the right of a jump (or from the left with `left`). */
-  private expectedAt(i: number, t: number): number {
-    const { t: times, angle } = this.track;
-    if (i + 1 < times.length && times[i + 1] > times[i]) {
-      return angle[i] + ((t - times[i]) / (times[i + 1] - times[i])) * (angle[i + 1] - angle[i]);
+  /** Index of the last expected point at or before t (-1 if none). */
+  private pointAt(t: number): number {
+    const times = this.track.t;
+    let lo = 0;
+    let hi = times.length - 1;
+    let found = -1;
+    while (lo <= hi) {
+      const mid = (lo + hi) >> 1;
+      if (times[mid] <= t) {
+        found = mid;
+        lo = mid + 1;
+      } else hi = mid - 1;
     }
+    return found;
+  }
+
+  private valueAt(i: number, t: number): number {
+    const { t: times, angle } = this.track;
+    if (i + 1 < times.length && times[i + 1] > times[i]) return angle[i] + ((t - times[i]) / (times[i + 1] - times[i])) * (angle[i + 1] - angle[i]);
     return angle[i];
   }
 
-  private error(d: number) {
-    return Math.abs(this.track.wrap ? fold(d) : d);
+  /** Lowest and highest expected (travel) angle over [a, b]; null before the track starts. */
+  private rangeOver(a: number, b: number): { lo: number; hi: number; at: number } | null {
+    const times = this.track.t;
+    let i = this.pointAt(a);
+    let lo: number;
+    let hi: number;
+    if (i < 0) {
+      if (times.length === 0 || times[0] > b) return null;
+      i = 0;
+      lo = hi = this.track.angle[0];
+    } else {
+      lo = hi = this.valueAt(i, a);
+    }
+    for (let k = i + 1; k < times.length && times[k] <= b; k++) {
+      const v = this.track.angle[k];
+      if (v < lo) lo = v;
+      if (v > hi) hi = v;
+    }
+    const end = this.valueAt(this.pointAt(b), b);
+    if (end < lo) lo = end;
+    if (end > hi) hi = end;
+    return { lo, hi, at: end };
   }
+
+  /** How far a needle at `seen` is from anything the expected needle showed over the window ending at t. */
+  private distance(t: number, seen: number): { error: number; expected: number } | null {
+    const r = this.rangeOver(t - this.lagBudgetMs, t);
+    if (!r) return null;
+    if (!this.track.wrap) {
+      if (seen >= r.lo && seen <= r.hi) return { error: 0, expected: seen };
+      return seen < r.lo ? { error: r.lo - seen, expected: r.lo } : { error: seen - r.hi, expected: r.hi };
+    }
+    if (r.hi - r.lo >= 360) return { error: 0, expected: seen };
+    // Bring the needle's angle to the turn just above the window's low end.
+    const shifted = r.lo + ((((seen - r.lo) % 360) + 360) % 360);
+    if (shifted <= r.hi) return { error: 0, expected: seen };
+    const toHi = Math.abs(fold(shifted - r.hi));
+    const toLo = Math.abs(fold(shifted - r.lo));
+    return toHi <= toLo ? { error: toHi, expected: ((r.hi % 360) + 360) % 360 } : { error: toLo, expected: ((r.lo % 360) + 360) % 360 };
+  }
+
+  private inGap(t: number) {
+    for (const g of this.gaps) if (t >= g.fromMs && t < g.toMs) return true;
+    return false;
+  }
+
+  /** The next instant after `a` at which the verdict may change. */
+  private nextInstant(a: number, limit: number): number {
+    const times = this.track.t;
+    while (this.nextPointIndex < times.length && times[this.nextPointIndex] <= a) this.nextPointIndex++;
+    while (this.nextLeavingIndex < times.length && times[this.nextLeavingIndex] + this.lagBudgetMs <= a) this.nextLeavingIndex++;
+    let b = limit;
+    const grid = (Math.floor(a / RECHECK_MS) + 1) * RECHECK_MS;
+    if (grid < b) b = grid;
+    if (this.nextPointIndex < times.length && times[this.nextPointIndex] < b) b = times[this.nextPointIndex];
+    if (this.nextLeavingIndex < times.length && times[this.nextLeavingIndex] + this.lagBudgetMs < b) b = times[this.nextLeavingIndex] + this.lagBudgetMs;
+    const nextSeen = this.seenIndex + 1 < this.seenT.length ? this.seenT[this.seenIndex + 1] : Infinity;
+    if (nextSeen < b) b = nextSeen;
+    for (const g of this.gaps) {
+      if (g.fromMs > a && g.fromMs < b) b = g.fromMs;
+      if (g.toMs > a && g.toMs < b) b = g.toMs;
+    }
+    return b;
+  }
+
+  /** True when the last advance stopped between two instants: the verdict made before still holds. */
+  private cutShort = false;
 
   advance(t: number) {
-    const times = this.track.t;
     while (this.cursor < t) {
       const a = this.cursor;
-      while (this.expIndex + 1 < times.length && times[this.expIndex + 1] <= a) this.expIndex++;
       while (this.seenIndex + 1 < this.seenT.length && this.seenT[this.seenIndex + 1] <= a) this.seenIndex++;
-      let b = t;
-      const nextExp = times[this.expIndex + 1];
-      const nextSeen = this.seenIndex + 1 < this.seenT.length ? this.seenT[this.seenIndex + 1] : undefined;
-      if (nextExp !== undefined && nextExp < b) b = nextExp;
-      if (nextSeen !== undefined && nextSeen < b) b = nextSeen;
-      for (const g of this.gaps) {
-        if (g.fromMs > a && g.fromMs < b) b = g.fromMs;
-        if (g.toMs > a && g.toMs < b) b = g.toMs;
+      const natural = this.nextInstant(a, Infinity);
+      const b = Math.min(natural, t);
+      const p = this.piece;
+      if (this.cutShort && !(this.seenIndex >= 0 && this.seenT[this.seenIndex] === a)) {
+        // Resume the piece a live batch cut: same verdict, so live equals offline.
+        p.from = a;
+        p.to = b;
+        p.cause = "none";
+        this.sweep.feed(p);
+        this.cursor = b;
+        this.cutShort = b < natural;
+        continue;
       }
-      const expChanged = this.expIndex >= 0 && times[this.expIndex] === a;
-      const hasSeen = this.seenIndex >= 0;
-      const seenChanged = hasSeen && this.seenT[this.seenIndex] === a;
-      const cause = expChanged && seenChanged ? "both" : expChanged ? "expected" : seenChanged ? "seen" : "none";
-      if (this.expIndex < 0) {
-        this.feedPart(a, b, false, 0, a, undefined, undefined, cause);
-      } else if (!hasSeen || (this.gaps.length > 0 && this.gaps.some((g) => a >= g.fromMs && a < g.toMs))) {
-        this.feedPart(a, b, false, 0, a, undefined, undefined, cause, true);
-      } else {
-        this.judgeLinearPiece(a, b, this.seenAngle[this.seenIndex], cause);
+      p.from = a;
+      p.to = b;
+      const pi = this.pointAt(a);
+      p.cause = this.seenIndex >= 0 && this.seenT[this.seenIndex] === a ? "seen" : pi >= 0 && this.track.t[pi] === a ? "expected" : "none";
+      p.noData = false;
+      p.bad = false;
+      p.error = 0;
+      p.errorAt = a;
+      p.expected = undefined;
+      p.seen = undefined;
+      const started = this.track.t.length > 0 && this.track.t[0] <= a;
+      if (started && (this.seenIndex < 0 || this.inGap(a))) p.noData = true;
+      else if (started) {
+        const seen = this.seenAngle[this.seenIndex];
+        const d = this.distance(a, seen);
+        if (d && d.error > this.toleranceDeg) {
+          p.bad = true;
+          p.error = d.error;
+          p.expected = d.expected;
+          p.seen = this.track.wrap ? ((seen % 360) + 360) % 360 : seen;
+        }
       }
+      this.sweep.feed(p);
       this.cursor = b;
-    }
-  }
-
-  /** One reused piece: a run judges millions of pieces, so none is allocated per piece. */
-  private readonly piece: Piece = { from: 0, to: 0, noData: false, bad: false, error: 0, errorAt: 0, expected: undefined, seen: undefined, cause: "none" };
-
-  private feedPart(from: number, to: number, bad: boolean, error: number, errorAt: number, expected: unknown, seen: unknown, cause: Piece["cause"], noData = false) {
-    const p = this.piece;
-    p.from = from;
-    p.to = to;
-    p.noData = noData;
-    p.bad = bad;
-    p.error = error;
-    p.errorAt = errorAt;
-    p.expected = expected;
-    p.seen = seen;
-    p.cause = cause;
-    this.sweep.feed(p);
-  }
-
-  /**
-   * Splits [a, b) where |difference| crosses the tolerance and feeds each part. Every instant
-   * and difference is computed from the expected track's own points, never from a, b, so the
-   * result does not depend on where live batches cut the piece.
-   */
-  private judgeLinearPiece(a: number, b: number, seenAngle: number, cause: Piece["cause"]) {
-    const i = this.expIndex;
-    const { t: times, angle } = this.track;
-    const tol = this.toleranceDeg;
-    const da = this.expectedAt(i, a) - seenAngle;
-    const moving = i + 1 < times.length && times[i + 1] > times[i] && angle[i + 1] !== angle[i];
-    if (!moving) {
-      const e = this.error(da);
-      const bad = e > tol;
-      this.feedPart(a, b, bad, bad ? e : 0, a, bad ? da + seenAngle : undefined, seenAngle, cause);
-      return;
-    }
-    const db = this.expectedAt(i, b) - seenAngle;
-    // Fast path: the difference stays inside the tolerance band at both ends and, being linear,
-    // in between (a full-circle pointer additionally must not wrap round within the piece).
-    if (Math.abs(da) <= tol && Math.abs(db) <= tol) {
-      this.feedPart(a, b, false, 0, a, undefined, undefined, cause);
-      return;
-    }
-    const t0 = times[i];
-    const rate = (angle[i + 1] - angle[i]) / (times[i + 1] - t0);
-    const lo = Math.min(da, db);
-    const hi = Math.max(da, db);
-    const cuts: number[] = [];
-    const addCut = (level: number) => {
-      if (level > lo && level < hi) {
-        const c = t0 + (level + seenAngle - angle[i]) / rate;
-        if (c > a && c < b) cuts.push(c);
-      }
-    };
-    if (this.track.wrap) {
-      // Crossings of +tol, -tol and the far side (180) on every turn the difference spans.
-      for (let k = Math.floor((lo - 180) / 360); k <= Math.ceil((hi + 180) / 360); k++) {
-        addCut(tol + 360 * k);
-        addCut(-tol + 360 * k);
-        addCut(180 + 360 * k);
-      }
-    } else {
-      addCut(tol);
-      addCut(-tol);
-    }
-    cuts.sort((x, y) => x - y);
-    let from = a;
-    for (let k = 0; k <= cuts.length; k++) {
-      const to = k < cuts.length ? cuts[k] : b;
-      const bad = this.error(this.expectedAt(i, (from + to) / 2) - seenAngle) > tol;
-      const partCause = k === 0 ? cause : "none";
-      if (!bad) {
-        this.feedPart(from, to, false, 0, from, undefined, undefined, partCause);
-      } else {
-        // The worst error in a part is at one of its ends (cuts include the 180-degree far side).
-        const ef = this.error(this.expectedAt(i, from) - seenAngle);
-        const et = this.error(this.expectedAt(i, to) - seenAngle);
-        const worstAtTo = et > ef + 1e-9;
-        const worstAt = worstAtTo ? to : from;
-        const expectedWorst = this.expectedAt(i, worstAt);
-        this.feedPart(from, to, true, worstAtTo ? et : ef, worstAt, this.track.wrap ? ((expectedWorst % 360) + 360) % 360 : expectedWorst, seenAngle, partCause);
-      }
-      from = to;
+      this.cutShort = b < natural;
     }
   }
 

@@ -135,7 +135,15 @@ export class ElementJudge {
       elementId: this.timeline.id,
       label: this.timeline.label,
       kind: this.timeline.kind,
-      status: statusOf({ placeholder, mismatches: this.mismatches.length, reports: this.reports, noDataMs, lagBudgetMs: this.tol.lagBudgetMs, exercised: exercised(this.timeline) }),
+      status: statusOf({
+        placeholder,
+        judged: [this.lamp, this.text, this.breaker, this.position, this.angle].some(Boolean),
+        mismatches: this.mismatches.length,
+        reports: this.reports,
+        noDataMs,
+        lagBudgetMs: this.tol.lagBudgetMs,
+        exercised: exercised(this.timeline),
+      }),
       mismatches: this.mismatches,
       lag: summarizeLags(lags),
       noDataMs,
@@ -152,8 +160,10 @@ function exercised(t: ElementTimeline): boolean {
   return false;
 }
 
-function statusOf(r: { placeholder: boolean; mismatches: number; reports: number; noDataMs: number; lagBudgetMs: number; exercised: boolean }): ElementStatus {
+function statusOf(r: { placeholder: boolean; judged: boolean; mismatches: number; reports: number; noDataMs: number; lagBudgetMs: number; exercised: boolean }): ElementStatus {
   if (r.placeholder) return "placeholder";
+  // Encoders and plain buttons only take input: the input walk tests them, not the replay.
+  if (!r.judged) return "untested";
   if (r.mismatches > 0) return "fail";
   if (r.reports === 0 || r.noDataMs > r.lagBudgetMs) return "no_data";
   if (!r.exercised) return "untested";
