@@ -8,6 +8,7 @@ import type { ChannelDefinition, ChannelValue } from "../shared/recording/channe
 import type { Frame } from "../shared/recording/frames";
 import { RecordingParser, serializeHeader } from "../shared/recording/recording-file";
 import { Segmenter, stateAt, type RecordingSegment } from "../shared/recording/segments";
+import { nativeDeflate } from "../server/recordings/native-deflate";
 import { ChannelStatsCollector } from "../server/recordings/stats";
 import { peakRssMb, type BenchReport } from "./harness";
 
@@ -106,7 +107,8 @@ async function bareParse(file: string): Promise<number> {
 /** What the import worker does with the file, minus the database. */
 async function fullImport(file: string): Promise<number> {
   const parser = new RecordingParser({ maxBytes: 2 ** 40 });
-  const segmenter = new Segmenter();
+  // As the server's writer does it: native zlib for segments.
+  const segmenter = new Segmenter({ deflate: nativeDeflate });
   const stats = new ChannelStatsCollector();
   let segments = 0;
   const take = (frames: Frame[]) => {

@@ -6,6 +6,7 @@ import { Segmenter, type RecordingSegment, type SegmenterOptions } from "../../s
 import type { Database } from "../db/client";
 import { recording, recordingSegment } from "../db/schema";
 import { ChannelStatsCollector } from "./stats";
+import { nativeDeflate } from "./native-deflate";
 
 /** A database handle or an open transaction: writers run inside the caller's transaction. */
 export type DbOrTx = Database | Parameters<Parameters<Database["transaction"]>[0]>[0];
@@ -53,7 +54,7 @@ export class RecordingWriter {
     segmentOptions: SegmenterOptions = {},
   ) {
     this.id = meta.id ?? randomUUID();
-    this.segmenter = new Segmenter(segmentOptions);
+    this.segmenter = new Segmenter({ deflate: nativeDeflate, ...segmentOptions });
   }
 
   get frameCount(): number {

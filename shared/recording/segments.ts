@@ -39,7 +39,15 @@ export interface DecodedSegment {
 export interface SegmenterOptions {
   segmentMs?: number;
   maxFramesPerSegment?: number;
+  /**
+   * Raw DEFLATE (RFC 1951) of a segment's bytes. Default: fflate, which runs anywhere. The server
+   * passes Node's native zlib (about six times faster here); both write the same format, and
+   * decodeSegment reads either.
+   */
+  deflate?: (bytes: Uint8Array) => Uint8Array;
 }
+
+const portableDeflate = (bytes: Uint8Array) => deflateSync(bytes, { level: 6 });
 
 interface EncodedSegmentJson {
   v: number;
@@ -49,7 +57,7 @@ interface EncodedSegmentJson {
   f: (number | ChannelValue)[][];
 }
 
-export function encodeSegment(segment: DecodedSegment): Uint8Array {
+export function encodeSegment(segment: DecodedSegment, deflate: (bytes: Uint8Array) => Uint8Array = portableDeflate): Uint8Array {
   const table: string[] = [];
   const ids = new Map<string, number>();
   const id = (name: string): number => {
@@ -69,7 +77,7 @@ export function encodeSegment(segment: DecodedSegment): Uint8Array {
     return row;
   });
   const json: EncodedSegmentJson = { v: SEGMENT_ENCODING_VERSION, s: segment.startMs, c: table, k: keyframe, f: frames };
-  return deflateSync(new TextEncoder().encode(JSON.stringify(json)), { level: 6 });
+  return deflate(new TextEncoder().encode(JSON.stringify(json)));
 }
 
 export function decodeSegment(payload: Uint8Array): DecodedSegment {
@@ -99,8 +107,10 @@ export class Segmenter {
   private readonly state = emptyState();
   private current: { startMs: number; endMs: number; keyframe: ChannelState; frames: Frame[] } | null = null;
   private count = 0;
+  private readonly deflate: (bytes: Uint8Array) => Uint8Array;
 
   constructor(options: SegmenterOptions = {}) {
+    this.deflate = options.deflate ?? portableDeflate;
     this.segmentMs = options.segmentMs ?? DEFAULT_SEGMENT_MS;
     this.maxFrames = options.maxFramesPerSegment ?? DEFAULT_MAX_FRAMES_PER_SEGMENT;
     if (!(this.segmentMs > 0) || !(this.maxFrames > 0)) throw new RangeError("segment size must be positive");
@@ -140,7 +150,7 @@ export class Segmenter {
       firstFrameMs: current.frames[0].t,
       lastFrameMs: current.frames[current.frames.length - 1].t,
       frameCount: current.frames.length,
-      payload: encodeSegment(current),
+      payload: encodeSegment(current, this.deflate),
     };
   }
 }

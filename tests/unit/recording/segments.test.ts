@@ -132,3 +132,14 @@ describe("segments", () => {
     expect(decodeSegment(encoded)).toEqual({ startMs: 5_000, keyframe: { a: 1 }, frames: [{ t: 5_001, v: { a: 2, b: "x" } }] });
   });
 });
+
+describe("segment compression", () => {
+  it("reads segments deflated by Node's native zlib exactly like fflate's", async () => {
+    const { deflateRawSync } = await import("node:zlib");
+    const frames = Array.from({ length: 500 }, (_, i) => ({ t: i * 20, v: { "alt.baro_ft": i * 3, "gear.handle": i % 100 < 50 ? "UP" : "DOWN" } }));
+    const portable = segmentFrames(frames);
+    const native = segmentFrames(frames, { deflate: (b) => deflateRawSync(b, { level: 1 }) });
+    expect(native.map((s) => decodeSegment(s.payload))).toEqual(portable.map((s) => decodeSegment(s.payload)));
+    for (const t of [0, 1234, 9_980]) expect(stateAt(native, t)).toEqual(stateAt(portable, t));
+  });
+});
