@@ -11,6 +11,8 @@ import { workshopsRouter } from "./routes/workshops";
 import { airframesRouter } from "./routes/airframes";
 import { capturesRouter } from "./routes/captures";
 import { recordingsRouter } from "./routes/recordings";
+import { panelsRouter } from "./routes/panels";
+import { runsRouter, sharedRouter } from "./routes/runs";
 
 export interface AppOptions {
   /** Folder with the built client; served with a fallback to index.html for client routes. */
@@ -54,6 +56,9 @@ export function createApp(services: Services, options: AppOptions) {
   app.use("/api/workshops", airframesRouter(services));
   app.use("/api/workshops", recordingsRouter(services));
   app.use("/api/workshops", capturesRouter(services));
+  app.use("/api/workshops", panelsRouter(services));
+  app.use("/api/workshops", runsRouter(services));
+  app.use("/api/shared", sharedRouter(services));
   app.use("/api/invitations", invitationsRouter(services));
   app.use("/api/outbox", outboxRouter(services));
   app.use("/api", unknownApiRoute);

@@ -12,6 +12,7 @@ import { UpgradeRouter } from "./realtime/upgrades";
 import { createStorage } from "./storage";
 import { Jobs } from "./jobs/queue";
 import { CaptureManager } from "./capture/manager";
+import { RunManager } from "./bench/run-manager";
 
 export interface RunningServer {
   url: string;
@@ -67,6 +68,9 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
   });
   await jobs.start();
   const captures = new CaptureManager({ db, auth, upgrades, trustedOrigins, udpHost: env.CAPTURE_UDP_HOST });
+  const runs = new RunManager({ db, auth, upgrades, trustedOrigins });
+  // Runs a previous process held and no longer stamps were interrupted; play resumes them.
+  await runs.markInterrupted();
   const services: Services = {
     db,
     auth,
@@ -78,6 +82,7 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     storage,
     jobs,
     captures,
+    runs,
     maxUploadBytes: env.MAX_UPLOAD_BYTES,
   };
   httpServer.on("request", createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins, behindProxy: env.BEHIND_PROXY === "true" }));
@@ -91,6 +96,8 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
       await new Promise<void>((resolve) => httpServer.close(() => resolve()));
       // Captures save what they caught and imports finish their transaction before the pool closes.
       await captures.closeAll();
+      // Running runs keep what arrived and are marked interrupted; play resumes them.
+      await runs.closeAll();
       await jobs.stop();
       await fakeSmtp?.close();
       mailer.close();

@@ -25,6 +25,10 @@ const Airframes = lazy(() => import("./routes/Airframes").then((m) => ({ default
 const AirframeChannels = lazy(() => import("./routes/AirframeChannels").then((m) => ({ default: m.AirframeChannels })));
 const CaptureStart = lazy(() => import("./routes/Capture").then((m) => ({ default: m.CaptureStart })));
 const CaptureLive = lazy(() => import("./routes/Capture").then((m) => ({ default: m.CaptureLive })));
+// Panel screens (issue 4): the panels table, one panel's page, a pointer's scale page.
+const Panels = lazy(() => import("./routes/Panels").then((m) => ({ default: m.Panels })));
+const PanelPage = lazy(() => import("./routes/PanelPage").then((m) => ({ default: m.PanelPage })));
+const PanelScale = lazy(() => import("./routes/PanelScale").then((m) => ({ default: m.PanelScale })));
 const later = (screen: ReactNode) => <Suspense fallback={<Loading what="Opening" />}>{screen}</Suspense>;
 
 const queryClient = new QueryClient({
@@ -56,6 +60,9 @@ const router = createBrowserRouter([
           { path: "recordings/airframes", element: later(<Airframes />) },
           { path: "recordings/airframes/:airframeId", element: later(<AirframeChannels />) },
           { path: "recordings/:recordingId", element: later(<RecordingPage />) },
+          { path: "panels", element: later(<Panels />) },
+          { path: "panels/:panelId", element: later(<PanelPage />) },
+          { path: "panels/:panelId/pointers/:elementId", element: later(<PanelScale />) },
         ],
       },
     ],

@@ -19,6 +19,7 @@ import {
 import { generateScenario, ScenarioError } from "../../shared/recording/scenario";
 import { Segmenter } from "../../shared/recording/segments";
 import { CaptureSession } from "../capture/session";
+import { CliRefusal, deviceCommand, runCommand } from "./bench-commands";
 
 /**
  * `panelproof`: the recording tools without a server, on the same code the server runs.
@@ -276,6 +277,43 @@ program
   .option("--airframe <name>", "airframe name for the file header", "Captured airframe")
   .action(captureCommand);
 
+const collect = (value: string, previous: string[] = []) => [...previous, value];
+const positive = (what: string) => (text: string) => {
+  const n = Number(text);
+  if (!(n > 0)) throw new InvalidArgumentError(`${what} must be a positive number.`);
+  return n;
+};
+
+program
+  .command("device")
+  .description("act as a panel's board with no hardware: on a serial port, or connected to a run's WebSocket")
+  .requiredOption("--panel <file>", "the panel definition JSON (as exported)")
+  .option("--port <path>", "a serial port (or one end of a pty pair)")
+  .option("--url <url>", "ws://HOST/ws/bench/runs/RUN/panels/PANEL")
+  .option("--token <token>", "the panel's device token (network link)")
+  .option("--baud <n>", "serial baud rate", integer("--baud", 1200, 2_000_000), 115_200)
+  .option("--address <n>", "RS-485 bus address (answers only when polled)", integer("--address", 1, 247))
+  .option("--fault <json>", "a fault or list of faults to show (docs/run-report.md); repeatable", collect, [])
+  .option("--channels <catalogue.json>", "the recording's channels, to name enum values")
+  .option("--time-scale <x>", "the replay speed, so time-based faults count recording time", positive("--time-scale"), 1)
+  .action(deviceCommand);
+
+program
+  .command("run")
+  .description("a headless run: create it, play it to the end, write JUnit XML; exit 1 when any element fails")
+  .requiredOption("--server <url>", "the Panelproof server, e.g. http://127.0.0.1:5178")
+  .requiredOption("--email <email>")
+  .requiredOption("--password <password>")
+  .requiredOption("--workshop <id>")
+  .requiredOption("--recording <id>")
+  .requiredOption("--link <spec>", "virtual:PANEL_ID | network:PANEL_ID | serial:PATH:PANEL_ID[:BAUD] | rs485:PATH:ADDRESS:PANEL_ID; repeatable", collect, [])
+  .option("--speed <x>", "replay speed 0.1 to 16", positive("--speed"), 1)
+  .option("--junit <out.xml>", "write the JUnit XML report here")
+  .option("--fault <json>", "faults for the virtual panels the command drives; repeatable", collect, [])
+  .option("--name <name>", "the run's name")
+  .option("--timeout <seconds>", "give up after this long", integer("--timeout", 1, 7 * 24 * 3600), 3600)
+  .action(runCommand);
+
 try {
   await program.parseAsync(process.argv);
 } catch (error) {
@@ -284,7 +322,7 @@ try {
     console.error(`${process.argv[3] ?? ""}: ${where ? `${where}: ` : ""}${error.why}`);
     process.exit(1);
   }
-  if (error instanceof Refusal) {
+  if (error instanceof Refusal || error instanceof CliRefusal) {
     console.error(error.message);
     process.exit(1);
   }

@@ -4,7 +4,9 @@ import { and, eq } from "drizzle-orm";
 import type { ChannelDefinition } from "../../shared/recording/channels";
 import { parseRecording } from "../../shared/recording/recording-file";
 import type { Database } from "../db/client";
-import { airframe, recording } from "../db/schema";
+import { airframe, panel, recording } from "../db/schema";
+import { demoChannels, demoPanels } from "../../shared/panel/demo";
+import { checkPanelChannels } from "../../shared/panel";
 import { RecordingWriter } from "../recordings/writer";
 import { storeScenario } from "../routes/recordings";
 import { createAuth } from "../auth/auth";
@@ -54,7 +56,8 @@ export async function seedDemo(url: string, baseUrl = "http://127.0.0.1") {
       if (present.has(ids[person.email])) continue;
       await auth.api.addMember({ body: { userId: ids[person.email], role: person.role, organizationId: workshop.id } });
     }
-    await seedRecordings(db, workshop.id, ids[owner.email]);
+    const airframeId = await seedRecordings(db, workshop.id, ids[owner.email]);
+    await seedPanels(db, workshop.id, airframeId, ids[owner.email]);
     return { workshopId: workshop.id };
   } finally {
     await db.$client.end();
@@ -117,5 +120,32 @@ async function seedRecordings(db: Database, workshopId: string, ownerId: string)
   const generatedName = `${scenario.name} (generated)`;
   if (!(await has(generatedName))) {
     await storeScenario({ db }, { workshopId, airframeId: frame.id, catalogue: frame.channels, name: generatedName, scenario, createdById: ownerId });
+  }
+  return frame.id;
+}
+
+/**
+ * The demo panels of the invented airframe (shared/panel/demo): the channels they bind are added
+ * to the airframe's catalogue when missing, then each panel is added when no panel has its
+ * identifier yet. The mirrored bezel points at its original.
+ */
+async function seedPanels(db: Database, workshopId: string, airframeId: string, ownerId: string) {
+  const [frame] = await db.select().from(airframe).where(eq(airframe.id, airframeId));
+  const missing = demoChannels.filter((c) => !frame.channels.some((k) => k.name === c.name));
+  const channels = missing.length ? [...frame.channels, ...missing] : frame.channels;
+  if (missing.length) await db.update(airframe).set({ channels, updatedAt: new Date() }).where(eq(airframe.id, airframeId));
+  const rows = await db.select({ id: panel.id, slug: panel.slug }).from(panel).where(eq(panel.workshopId, workshopId));
+  const bySlug = new Map(rows.map((r) => [r.slug, r.id]));
+  for (const definition of demoPanels) {
+    if (bySlug.has(definition.id)) continue;
+    const problems = checkPanelChannels(definition, channels);
+    if (problems.length) {
+      console.warn(`[seed] demo panel ${definition.id} skipped: ${problems.map((p) => `${p.path}: ${p.message}`).join("; ")}`);
+      continue;
+    }
+    const id = randomUUID();
+    const mirrorOf = definition.id === "nav-bezel-right" ? (bySlug.get("nav-bezel-left") ?? null) : null;
+    await db.insert(panel).values({ id, workshopId, airframeId, slug: definition.id, name: definition.name, definition, mirrorOf, createdById: ownerId });
+    bySlug.set(definition.id, id);
   }
 }

@@ -21,3 +21,7 @@ export const outboxMessage = pgTable(
 );
 
 export * from "./recordings-schema";
+
+export * from "./panels-schema";
+
+export * from "./runs-schema";

@@ -10,6 +10,7 @@ import type { UpgradeRouter } from "../realtime/upgrades";
 import type { StorageDriver } from "../storage";
 import type { Jobs } from "../jobs/queue";
 import type { CaptureManager } from "../capture/manager";
+import type { RunManager } from "../bench/run-manager";
 import { notFound, unauthenticated } from "./errors";
 
 export interface Services {
@@ -29,6 +30,8 @@ export interface Services {
   jobs: Jobs;
   /** Live captures held by this process. */
   captures: CaptureManager;
+  /** Runs held by this process: sessions, panel links, watchers. */
+  runs: RunManager;
   /** Largest upload in bytes (also the largest unpacked size of a gzip upload). */
   maxUploadBytes: number;
 }

@@ -2,6 +2,8 @@ import { z } from "zod";
 import { ELEMENT_KINDS } from "../elements/kinds";
 import { panel } from "../panel/schema";
 import { entityId } from "./workshops";
+import type { PanelCoverage } from "../expect/coverage";
+import type { ExpectedTimelines } from "../expect/types";
 
 /**
  * The panels API contract (issue 4), shared by the server's routes and the client. All routes
@@ -73,3 +75,31 @@ export type DeviceTokenView = z.infer<typeof deviceTokenView>;
 /** POST /panels/:panelId/tokens: the token is in the answer once; only its hash is stored. */
 export const createTokenBody = z.object({ label: z.string().trim().min(1).max(60) }).strict();
 export const createdTokenView = deviceTokenView.extend({ token: z.string() });
+
+// ---- additions while building the routes (additive only) -------------------------------------
+
+/** GET /panels?airframeId= : only the panels of one airframe (the preview's recording picker uses it the other way round). */
+export const listPanelsQuery = z.object({ airframeId: entityId.optional() }).strict();
+
+/** PATCH /panels/:panelId: rename (the definition's `name` changes with it). */
+export const renamePanelBody = z.object({ name: z.string().trim().min(1, "must not be empty").max(80, "must be at most 80 characters") }).strict();
+
+/**
+ * POST /panels/:panelId/mirror also takes `channelMap`: channels the mirrored side reads instead
+ * (`nav.range_l_nm` -> `nav.range_r_nm`). Every channel it names must be in the airframe's catalogue.
+ */
+export const mirrorPanelBody = copyPanelBody.extend({
+  channelMap: z.record(z.string().max(80), z.string().max(80)).optional(),
+});
+
+/** The answer of GET /panels/:panelId/expected: timelines (shared/expect) and coverage for the preview. */
+export interface ExpectedView {
+  panelId: string;
+  recordingId: string;
+  recordingName: string;
+  durationMs: number;
+  frameCount: number;
+  timelines: ExpectedTimelines;
+  coverage: PanelCoverage;
+}
+export type CreatedTokenView = z.infer<typeof createdTokenView>;

@@ -2,6 +2,7 @@ import { Link, useOutletContext } from "react-router";
 import type { WorkshopDetail } from "../../shared/api/workshops";
 import { Card } from "../components/ui";
 import { useRecordings } from "../features/recordings/queries";
+import { usePanels } from "../features/panels/queries";
 
 const STEPS = [
   {
@@ -27,6 +28,7 @@ export function WorkshopHome() {
   const canChange = w.abilities.includes("bench.write");
   const recordings = useRecordings(w.id, false);
   const recordingCount = recordings.data?.length ?? 0;
+  const panelCount = usePanels(w.id).data?.length ?? 0;
   return (
     <div className="grid gap-5 md:grid-cols-3">
       {STEPS.map((s, i) => (
@@ -43,6 +45,10 @@ export function WorkshopHome() {
             <p className="font-semibold">
               {recordingCount} {recordingCount === 1 ? "recording" : "recordings"} on the bench.
             </p>
+          ) : s.title === "Panels" && panelCount > 0 ? (
+            <p className="font-semibold">
+              {panelCount} {panelCount === 1 ? "panel" : "panels"} described.
+            </p>
           ) : (
             <p className="font-semibold">{s.empty}</p>
           )}
@@ -52,7 +58,12 @@ export function WorkshopHome() {
               {canChange ? "Open recordings, upload or compose →" : "Open recordings →"}
             </Link>
           )}
-          {!canChange && s.title !== "Recordings" && <p className="mt-3 text-sm text-ink-soft">As a viewer you will see these when builders add them.</p>}
+          {s.title === "Panels" && (
+            <Link to={`/w/${w.id}/panels`} className="mt-3 inline-block text-sm font-semibold text-ink underline decoration-amber/60 underline-offset-2 hover:decoration-amber">
+              {canChange ? "Open panels, describe or import one →" : "Open panels →"}
+            </Link>
+          )}
+          {!canChange && s.title === "Runs" && <p className="mt-3 text-sm text-ink-soft">As a viewer you will see these when builders add them.</p>}
         </Card>
       ))}
       <p className="text-sm text-ink-soft md:col-span-3">

@@ -30,6 +30,9 @@ export function WorkshopLayout() {
         <NavLink to={`/w/${w.id}/recordings`} className={tab}>
           Recordings
         </NavLink>
+        <NavLink to={`/w/${w.id}/panels`} className={tab}>
+          Panels
+        </NavLink>
         <NavLink to={`/w/${w.id}/members`} className={tab}>
           People
         </NavLink>

@@ -1,0 +1,553 @@
+import { eq } from "drizzle-orm";
+import type { WebSocket } from "ws";
+import type { RUN_STATES, WatcherMessage } from "../../shared/api/runs";
+import { seenFromLink, inputFromLink } from "../../shared/compare/from-link";
+import { RunJudge, tolerancesOf } from "../../shared/compare/judge";
+import type { ElementStatus, LinkGap, Mismatch, Tolerances } from "../../shared/compare/types";
+import type { Element } from "../../shared/elements/kinds";
+import { expectTimelines } from "../../shared/expect/engine";
+import type { ExpectedTimelines } from "../../shared/expect/types";
+import type { LinkFrame } from "../../shared/link/messages";
+import { panelChannels } from "../../shared/panel/schema";
+import type { ChannelDefinition } from "../../shared/recording/channels";
+import type { ChannelState, Frame } from "../../shared/recording/frames";
+import { ArrayFrameSource, type FrameSource } from "../../shared/replay/frame-source";
+import { Player } from "../../shared/replay/player";
+import { performanceClock } from "../../shared/replay/virtual-clock";
+import type { Database } from "../db/client";
+import { run, seenLog, type RunPanelSnapshot, type StoredLinkStatus } from "../db/schema";
+import { ReplayScheduler } from "./scheduler";
+import { DirectLink, Rs485Port, SerialLink, type LinkEvents, type PanelLink } from "./links";
+import { encodeSeenChunk, type SeenRecord } from "./seen-log";
+import { PanelValueMap } from "./values";
+
+type RunState = (typeof RUN_STATES)[number];
+type RunRow = typeof run.$inferSelect;
+
+/** A chunk of the seen log covers at most this much recording time (or this many reports). */
+export const CHUNK_MS = 5000;
+export const CHUNK_RECORDS = 20_000;
+
+/** A recording's frames seen through a window: the run's segment ends where the recording does not. */
+class WindowSource implements FrameSource {
+  constructor(
+    private readonly base: FrameSource,
+    readonly durationMs: number,
+  ) {}
+  framesBetween(from: number, to: number) {
+    return this.base.framesBetween(from, Math.min(to, this.durationMs));
+  }
+  stateAt(t: number) {
+    return this.base.stateAt(t);
+  }
+  nextFrameAfter(t: number) {
+    const f = this.base.nextFrameAfter(t);
+    return f && f.t <= this.durationMs ? f : null;
+  }
+}
+
+interface SessionPanel {
+  snapshot: RunPanelSnapshot;
+  elements: readonly Element[];
+  byId: Map<string, Element>;
+  map: PanelValueMap;
+  timelines: ExpectedTimelines;
+  link: PanelLink;
+  judge: RunJudge;
+  buffer: SeenRecord[];
+  bufferFrom: number;
+  lastT: Map<string, number>;
+  advancedTo: number;
+  status: StoredLinkStatus;
+  /** Recording time when the link dropped (or the run started without it); null while connected. */
+  downSince: number | null;
+  liveMismatches: number;
+  failing: Set<string>;
+}
+
+export interface SessionDeps {
+  db: Database;
+  /** This process, as written in run.held_by. */
+  processId: string;
+  broadcast(runId: string, message: WatcherMessage): void;
+  /** Judges the stored seen log and writes results (server/bench/store.ts). */
+  judge(runId: string): Promise<void>;
+  onClosed(runId: string): void;
+  /** The stored verdicts of a panel's elements, told to watchers when the run is judged. */
+  elementStatuses(runId: string, panelId: string): Promise<{ elementId: string; status: ElementStatus }[]>;
+}
+
+/**
+ * One running run in this process: the recording's frames, expected timelines per panel, a
+ * player on the virtual clock woken by the replay scheduler, a link per panel, and a live judge
+ * per panel fed with what the links report. Reports are stamped on arrival with the bench's
+ * monotonic clock, read through the virtual clock as recording time. The raw reports go to the
+ * seen log in chunks; the run's final results are judged from that log (the same code as rejudge).
+ */
+export class RunSession {
+  readonly runId: string;
+  private readonly panels: SessionPanel[] = [];
+  private readonly player: Player;
+  private readonly scheduler: ReplayScheduler;
+  private readonly fromMs: number;
+  private readonly endMs: number;
+  private readonly ports = new Map<string, Rs485Port>();
+  private epoch: number;
+  private chunk = 0;
+  private cuts: { epoch: number; atMs: number }[];
+  private lastSent: number | null = null;
+  private writes: Promise<void> = Promise.resolve();
+  private persistTimer: NodeJS.Timeout;
+  private state: RunState = "ready";
+  private closing = false;
+  private lastPlayerBroadcast = 0;
+  private readonly tolerance: Partial<Tolerances>;
+
+  private constructor(
+    private readonly deps: SessionDeps,
+    row: RunRow,
+    frames: Frame[],
+    durationMs: number,
+    channels: ChannelDefinition[],
+    nextChunk: number,
+  ) {
+    this.runId = row.id;
+    this.fromMs = row.segment?.fromMs ?? 0;
+    this.endMs = Math.min(row.segment?.toMs ?? durationMs, durationMs);
+    this.tolerance = row.tolerance;
+    this.cuts = [...row.cuts];
+    this.epoch = this.cuts.reduce((m, c) => Math.max(m, c.epoch), 0);
+    this.chunk = nextChunk;
+    const base = new ArrayFrameSource(frames, durationMs);
+    const source = new WindowSource(base, this.endMs);
+    for (const snapshot of row.panels) {
+      const def = snapshot.definition;
+      const full = expectTimelines(def, frames, { endMs: durationMs });
+      const timelines: ExpectedTimelines = { ...full, startMs: this.fromMs, endMs: this.endMs };
+      const byId = new Map(def.elements.map((el) => [el.id, el]));
+      const stored = row.linkStatus.find((l) => l.panelId === snapshot.panelId);
+      const linkInput = row.links.find((l) => l.panelId === snapshot.panelId)!;
+      const status: StoredLinkStatus = stored ? { ...stored, gaps: [...stored.gaps], faults: { ...stored.faults } } : { panelId: snapshot.panelId, kind: linkInput.kind, faults: {}, gaps: [] };
+      const panel: SessionPanel = {
+        snapshot,
+        elements: def.elements,
+        byId,
+        map: new PanelValueMap(panelChannels(def), channels),
+        timelines,
+        link: null as unknown as PanelLink,
+        judge: new RunJudge(timelines, (id) => tolerancesOf(byId.get(id), this.tolerance)),
+        buffer: [],
+        bufferFrom: 0,
+        lastT: new Map(),
+        advancedTo: this.fromMs,
+        status,
+        downSince: null,
+        liveMismatches: 0,
+        failing: new Set(),
+      };
+      panel.link = this.makeLink(panel, linkInput);
+      this.panels.push(panel);
+    }
+    this.player = new Player(source, performanceClock, {
+      frame: (frame) => this.sendFrame(frame),
+      keyframe: (t, state) => this.sendKeyframe(t, state),
+    });
+    this.player.setSpeed(row.speed);
+    this.scheduler = new ReplayScheduler(this.player, () => this.afterTick());
+    const start = Math.max(this.fromMs, Math.min(row.positionMs, this.endMs));
+    if (start > 0) this.player.seek(start);
+    this.state = start > 0 ? "paused" : "ready";
+    // Until a link has connected, its panel has no data (from where this session starts).
+    for (const p of this.panels) p.downSince = start;
+    this.persistTimer = setInterval(() => this.persist(), 1000);
+  }
+
+  /** Loads what the run needs (frames by segment reads) and opens its links. */
+  static async open(deps: SessionDeps, row: RunRow, loaded: { frames: Frame[]; durationMs: number; channels: ChannelDefinition[] }): Promise<RunSession> {
+    const chunks = await deps.db.select({ chunk: seenLog.chunk }).from(seenLog).where(eq(seenLog.runId, row.id));
+    const next = chunks.reduce((m, c) => Math.max(m, c.chunk + 1), 0);
+    const session = new RunSession(deps, row, loaded.frames, loaded.durationMs, loaded.channels, next);
+    await session.openLinks();
+    return session;
+  }
+
+  private makeLink(panel: SessionPanel, input: RunRow["links"][number]): PanelLink {
+    const events: LinkEvents = {
+      frame: (frame, arrival) => this.onFrame(panel, frame, arrival),
+      fault: (reason, detail) => this.countFault(panel, reason, detail),
+      up: () => this.linkUp(panel),
+      down: () => this.linkDown(panel),
+    };
+    switch (input.kind) {
+      case "virtual":
+      case "network":
+        return new DirectLink(input.kind, input.panelId, events);
+      case "serial":
+        return new SerialLink(input.panelId, input.path, input.baud, events);
+      case "rs485": {
+        let port = this.ports.get(input.path);
+        if (!port) {
+          port = new Rs485Port(input.path, input.baud);
+          this.ports.set(input.path, port);
+        }
+        return port.device(input.panelId, input.address, events);
+      }
+    }
+  }
+
+  private async openLinks() {
+    for (const p of this.panels) if (p.link instanceof SerialLink) await p.link.open();
+    for (const port of this.ports.values()) {
+      await port.open((message) => {
+        for (const p of this.panels) if (p.link.kind === "rs485") this.countFault(p, "cannot_open", message);
+      });
+    }
+  }
+
+  // ---- time ------------------------------------------------------------------------------
+
+  /** Recording time now, on the virtual clock, within the run's window. */
+  private recordingNow(): number {
+    return Math.max(this.fromMs, Math.min(this.endMs, this.player.clock.now()));
+  }
+
+  // ---- out to the panels -----------------------------------------------------------------
+
+  private sendFrame(frame: Frame) {
+    this.lastSent = frame.t;
+    for (const p of this.panels) {
+      const values = p.map.valuesOf(frame.v);
+      if (values.length) p.link.update(values, false);
+    }
+  }
+
+  private sendKeyframe(t: number, state: ChannelState) {
+    if (this.lastSent !== null && t < this.lastSent) this.cut(t);
+    else if (this.lastSent !== null && t > this.lastSent + 1) {
+      // A forward seek skipped [lastSent, t): nothing was played there, so nothing was seen.
+      for (const p of this.panels) this.addGap(p, { fromMs: this.lastSent, toMs: t });
+    }
+    this.lastSent = t;
+    for (const p of this.panels) p.link.update(p.map.valuesOf(state, true), true);
+  }
+
+  /**
+   * The keyframe a (re)connected link needs: every value at the current instant. The gap
+   * without data ends when the panel reports again, not when the line comes back.
+   */
+  private linkUp(panel: SessionPanel) {
+    const { state } = this.player.keyframeForLateJoiner();
+    panel.link.update(panel.map.valuesOf(state, true), true);
+    this.broadcastLink(panel);
+  }
+
+  private closeGap(panel: SessionPanel) {
+    if (panel.downSince === null) return;
+    const now = this.recordingNow();
+    if (now > panel.downSince) this.addGap(panel, { fromMs: panel.downSince, toMs: now });
+    panel.downSince = null;
+    this.broadcastLink(panel);
+  }
+
+  private linkDown(panel: SessionPanel) {
+    if (panel.downSince === null) panel.downSince = this.recordingNow();
+    this.broadcastLink(panel);
+  }
+
+  private addGap(panel: SessionPanel, gap: LinkGap) {
+    if (!(gap.toMs > gap.fromMs)) return;
+    panel.status.gaps.push({ fromMs: gap.fromMs, toMs: gap.toMs });
+    panel.judge.addGap(panel.elements.map((e) => e.id), gap);
+  }
+
+  // ---- in from the panels ----------------------------------------------------------------
+
+  private countFault(panel: SessionPanel, reason: string, _detail: string) {
+    panel.status.faults[reason] = (panel.status.faults[reason] ?? 0) + 1;
+  }
+
+  private onFrame(panel: SessionPanel, frame: LinkFrame, _arrival: number) {
+    // Arrival on the bench's monotonic clock, read as recording time by the virtual clock.
+    const t = this.recordingNow();
+    const m = frame.message;
+    if (m.type === "seen_report" && panel.link.connected) this.closeGap(panel);
+    switch (m.type) {
+      case "seen_report":
+        for (const entry of m.seen) {
+          const r = seenFromLink(panel.elements, entry, t);
+          if (r.ok) this.record(panel, r.elementId, r.sample);
+          else this.countFault(panel, r.reason, r.detail);
+        }
+        break;
+      case "input_event":
+        for (const entry of m.inputs) {
+          const r = inputFromLink(panel.elements, entry, t);
+          if (r.ok) this.record(panel, r.elementId, r.sample);
+          else if (r.reason !== "wrong_kind") this.countFault(panel, r.reason, r.detail);
+        }
+        break;
+      case "hello":
+        if (m.panel !== panel.snapshot.definition.id) this.countFault(panel, "other_panel", `the device says it is panel "${m.panel}"`);
+        break;
+      case "error":
+        this.countFault(panel, `device_${m.code}`, m.text);
+        break;
+      default:
+        break;
+    }
+  }
+
+  private record(panel: SessionPanel, elementId: string, sample: SeenRecord["sample"]) {
+    const t = Math.max(sample.t, panel.lastT.get(elementId) ?? -Infinity, panel.advancedTo);
+    panel.lastT.set(elementId, t);
+    const s = { t, shows: sample.shows };
+    if (panel.buffer.length === 0) panel.bufferFrom = t;
+    panel.buffer.push({ elementId, sample: s });
+    panel.judge.addSeen(elementId, s);
+    if (panel.buffer.length >= CHUNK_RECORDS || t - panel.bufferFrom >= CHUNK_MS) this.flushPanel(panel);
+  }
+
+  private flushPanel(panel: SessionPanel) {
+    if (panel.buffer.length === 0) return;
+    const records = panel.buffer;
+    panel.buffer = [];
+    const row = {
+      runId: this.runId,
+      panelId: panel.snapshot.panelId,
+      chunk: this.chunk++,
+      epoch: this.epoch,
+      fromMs: records[0].sample.t,
+      toMs: records[records.length - 1].sample.t,
+      count: records.length,
+      payload: encodeSeenChunk(records),
+    };
+    this.chain(() => this.deps.db.insert(seenLog).values(row).then(() => undefined));
+  }
+
+  private chain(work: () => Promise<void>) {
+    this.writes = this.writes.then(work).catch((error) => console.error(`[run ${this.runId}] write failed:`, error));
+  }
+
+  /** A backward seek or loop restart: reports of this pass from `atMs` on stop counting. */
+  private cut(atMs: number) {
+    for (const p of this.panels) this.flushPanel(p);
+    this.epoch++;
+    this.cuts.push({ epoch: this.epoch, atMs });
+    for (const p of this.panels) {
+      p.status.gaps = p.status.gaps.flatMap((g) => (g.fromMs >= atMs ? [] : [{ fromMs: g.fromMs, toMs: Math.min(g.toMs, atMs) }]));
+      p.judge = new RunJudge(p.timelines, (id) => tolerancesOf(p.byId.get(id), this.tolerance));
+      for (const g of p.status.gaps) p.judge.addGap(p.elements.map((e) => e.id), g);
+      p.lastT.clear();
+      p.advancedTo = this.fromMs;
+      p.liveMismatches = 0;
+      p.failing.clear();
+      if (p.downSince !== null) p.downSince = atMs;
+    }
+  }
+
+  // ---- live judging and watchers -------------------------------------------------------
+
+  private afterTick() {
+    const now = this.recordingNow();
+    for (const p of this.panels) {
+      const to = Math.min(now, p.downSince ?? Infinity);
+      if (to > p.advancedTo) {
+        p.judge.advance(to);
+        p.advancedTo = to;
+      }
+      const live = p.judge.liveMismatches();
+      for (let i = p.liveMismatches; i < live.length; i++) this.announceMismatch(p, live[i]);
+      p.liveMismatches = live.length;
+    }
+    const wall = performance.now();
+    if (wall - this.lastPlayerBroadcast > 250) this.broadcastPlayer();
+    if (this.player.state === "finished") void this.finish("finished");
+  }
+
+  private announceMismatch(p: SessionPanel, m: Mismatch) {
+    this.deps.broadcast(this.runId, {
+      type: "mismatch",
+      mismatch: { panelId: p.snapshot.panelId, elementId: m.elementId, track: m.track, kind: m.kind, startMs: m.startMs, endMs: m.endMs, worstError: m.worstError, expected: m.expected, seen: m.seen, atMs: m.atMs },
+    });
+    if (!p.failing.has(m.elementId)) {
+      p.failing.add(m.elementId);
+      this.deps.broadcast(this.runId, { type: "element", panelId: p.snapshot.panelId, elementId: m.elementId, status: "fail" });
+    }
+  }
+
+  private broadcastPlayer() {
+    this.lastPlayerBroadcast = performance.now();
+    this.deps.broadcast(this.runId, { type: "player", state: this.state, positionMs: this.position(), speed: this.player.clock.speed, durationMs: this.endMs });
+  }
+
+  private broadcastLink(p: SessionPanel) {
+    this.deps.broadcast(this.runId, { type: "link", link: this.linkView(p) });
+  }
+
+  private linkView(p: SessionPanel) {
+    const gaps = [...p.status.gaps];
+    if (p.downSince !== null && this.state !== "ready") gaps.push({ fromMs: p.downSince, toMs: this.recordingNow() });
+    return { panelId: p.snapshot.panelId, kind: p.status.kind, connected: p.link.connected, faults: { ...p.status.faults }, gaps };
+  }
+
+  // ---- control ---------------------------------------------------------------------------
+
+  position() {
+    return Math.round(this.recordingNow());
+  }
+
+  view() {
+    return { state: this.state, positionMs: this.position(), speed: this.player.clock.speed, durationMs: this.endMs, links: this.panels.map((p) => this.linkView(p)) };
+  }
+
+  /** Attaches a panel's WebSocket (virtual or network link); false when the run has no such link. */
+  attachSocket(panelId: string, ws: WebSocket, kind: "virtual" | "network"): boolean {
+    const p = this.panels.find((x) => x.snapshot.panelId === panelId);
+    if (!p || !(p.link instanceof DirectLink) || p.link.kind !== kind) return false;
+    p.link.attachSocket(ws);
+    return true;
+  }
+
+  linkKindOf(panelId: string) {
+    return this.panels.find((x) => x.snapshot.panelId === panelId)?.link.kind ?? null;
+  }
+
+  private syncState() {
+    const s = this.player.state;
+    this.state = s === "idle" || s === "loading" ? "ready" : s;
+  }
+
+  play() {
+    if (this.state === "playing") return;
+    const wasReady = this.state === "ready";
+    // Links not connected at the start have no data from the start.
+    if (wasReady) for (const p of this.panels) if (p.downSince !== null) p.downSince = this.recordingNow();
+    this.player.play();
+    this.syncState();
+    this.scheduler.kick();
+    this.persist();
+    this.broadcastPlayer();
+  }
+
+  pause() {
+    this.player.pause();
+    this.syncState();
+    this.afterTick();
+    for (const p of this.panels) this.flushPanel(p);
+    this.persist();
+    this.broadcastPlayer();
+  }
+
+  step() {
+    this.player.step();
+    this.syncState();
+    this.afterTick();
+    this.broadcastPlayer();
+  }
+
+  seek(toMs: number) {
+    this.player.seek(Math.max(this.fromMs, Math.min(this.endMs, toMs)));
+    this.syncState();
+    this.scheduler.kick();
+    this.persist();
+    this.broadcastPlayer();
+  }
+
+  setSpeed(speed: number) {
+    this.player.setSpeed(speed);
+    this.scheduler.kick();
+    this.persist();
+    this.broadcastPlayer();
+  }
+
+  setLoop(loop: { fromMs: number; toMs: number } | null) {
+    this.player.setLoop(loop);
+    this.scheduler.kick();
+  }
+
+  /** Ends the run now ("stop") or at the end ("finished"): judged up to where it got. */
+  async finish(_why: "finished" | "stopped"): Promise<void> {
+    if (this.closing) return;
+    this.closing = true;
+    const end = this.position();
+    this.scheduler.stop();
+    this.player.pause();
+    clearInterval(this.persistTimer);
+    for (const p of this.panels) {
+      if (p.downSince !== null) {
+        this.addGap(p, { fromMs: p.downSince, toMs: end });
+        p.downSince = null;
+      }
+      this.flushPanel(p);
+    }
+    await this.closeLinks();
+    const endMs = end;
+    const linkStatus = this.panels.map((p) => p.status);
+    this.chain(async () => {
+      await this.deps.db.update(run).set({ positionMs: endMs, durationMs: this.endMs, linkStatus, cuts: this.cuts, aliveAt: new Date() }).where(eq(run.id, this.runId));
+      // Judged from the stored log up to where the run got (a stop judges what was played),
+      // before the run reads as finished, so a finished run always has its results.
+      await this.deps.judge(this.runId);
+      await this.deps.db.update(run).set({ state: "finished", finishedAt: new Date(), heldBy: null }).where(eq(run.id, this.runId));
+    });
+    await this.writes;
+    this.state = "finished";
+    this.broadcastPlayer();
+    for (const p of this.panels) {
+      const rows = await this.deps.elementStatuses(this.runId, p.snapshot.panelId);
+      for (const r of rows) this.deps.broadcast(this.runId, { type: "element", panelId: p.snapshot.panelId, elementId: r.elementId, status: r.status });
+    }
+    this.deps.onClosed(this.runId);
+  }
+
+  /** The process is going away: keep what arrived, mark the run interrupted (play resumes it). */
+  async interrupt(): Promise<void> {
+    if (this.closing) return;
+    this.closing = true;
+    this.scheduler.stop();
+    this.player.pause();
+    clearInterval(this.persistTimer);
+    const at = this.position();
+    for (const p of this.panels) {
+      if (p.downSince !== null && at > p.downSince) this.addGap(p, { fromMs: p.downSince, toMs: at });
+      this.flushPanel(p);
+    }
+    this.state = "interrupted";
+    await this.closeLinks();
+    this.chain(() =>
+      this.deps.db
+        .update(run)
+        .set({ state: "interrupted", positionMs: at, linkStatus: this.panels.map((p) => p.status), cuts: this.cuts, heldBy: null })
+        .where(eq(run.id, this.runId))
+        .then(() => undefined),
+    );
+    await this.writes;
+    this.broadcastPlayer();
+    this.deps.onClosed(this.runId);
+  }
+
+  private async closeLinks() {
+    for (const p of this.panels) await p.link.close();
+    for (const port of this.ports.values()) await port.close();
+  }
+
+  /** Saves state, position, link status and the alive stamp (every second and on control). */
+  private persist() {
+    if (this.closing) return;
+    const values = {
+      state: this.state,
+      positionMs: this.position(),
+      speed: this.player.clock.speed,
+      linkStatus: this.panels.map((p) => ({ ...p.status, gaps: this.linkView(p).gaps })),
+      cuts: [...this.cuts],
+      heldBy: this.deps.processId,
+      aliveAt: new Date(),
+    };
+    this.chain(() => this.deps.db.update(run).set(values).where(eq(run.id, this.runId)).then(() => undefined));
+  }
+
+  /** Waits for queued writes (tests and shutdown). */
+  settle() {
+    return this.writes;
+  }
+}

@@ -1,0 +1,141 @@
+import { and, asc, eq, sql } from "drizzle-orm";
+import type { ElementStatus, Mismatch, Tolerances } from "../../shared/compare/types";
+import { judgeOffline, tolerancesOf, type RunJudgement } from "../../shared/compare/judge";
+import { summarizeLags } from "../../shared/compare/statistics";
+import { expectTimelines } from "../../shared/expect/engine";
+import type { ChannelDefinition } from "../../shared/recording/channels";
+import type { Frame } from "../../shared/recording/frames";
+import type { Database } from "../db/client";
+import { mismatch, recording, run, runElementResult, seenLog } from "../db/schema";
+void mismatch;
+import type { DbOrTx } from "../recordings/writer";
+import { framesOf } from "../recordings/read";
+import { decodeSeenChunk, type SeenRecord } from "./seen-log";
+
+type RunRow = typeof run.$inferSelect;
+
+export const EMPTY_COUNTS: Record<ElementStatus, number> = { pass: 0, fail: 0, untested: 0, no_data: 0, placeholder: 0 };
+
+/** A recording's frames, read segment by segment, with what a run needs beside them. */
+export async function loadRecording(db: DbOrTx, recordingId: string): Promise<{ frames: Frame[]; durationMs: number; channels: ChannelDefinition[]; name: string }> {
+  const [rec] = await db.select({ durationMs: recording.durationMs, channels: recording.channels, name: recording.name }).from(recording).where(eq(recording.id, recordingId));
+  if (!rec) throw new Error(`recording ${recordingId} is gone`);
+  const frames: Frame[] = [];
+  for await (const batch of framesOf(db, recordingId)) for (const f of batch) frames.push(f);
+  return { frames, durationMs: Math.max(rec.durationMs, frames.at(-1)?.t ?? 0), channels: rec.channels, name: rec.name };
+}
+
+/** The stored seen log of one panel, in time order, without reports a later pass replaced. */
+export async function seenLogOf(db: DbOrTx, row: RunRow, panelId: string): Promise<SeenRecord[]> {
+  const chunks = await db
+    .select({ epoch: seenLog.epoch, payload: seenLog.payload })
+    .from(seenLog)
+    .where(and(eq(seenLog.runId, row.id), eq(seenLog.panelId, panelId)))
+    .orderBy(asc(seenLog.chunk));
+  const out: SeenRecord[] = [];
+  for (const c of chunks) {
+    const cuts = row.cuts.filter((cut) => cut.epoch > c.epoch);
+    const limit = cuts.length ? Math.min(...cuts.map((cut) => cut.atMs)) : Infinity;
+    for (const r of decodeSeenChunk(c.payload)) if (r.sample.t < limit) out.push(r);
+  }
+  // Stable: reports of one element keep their order; chunks of later passes start after the cut.
+  return out.map((r, i) => ({ r, i })).sort((a, b) => a.r.sample.t - b.r.sample.t || a.i - b.i).map((x) => x.r);
+}
+
+export interface PanelJudgement {
+  panelId: string;
+  ordinals: Map<string, number>;
+  judgement: RunJudgement;
+}
+
+/** Judges every panel of a run from its stored seen log and gaps, with `tolerance` over the elements' own. */
+export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<Tolerances>, loaded?: { frames: Frame[]; durationMs: number }): Promise<PanelJudgement[]> {
+  const rec = loaded ?? (await loadRecording(db, row.recordingId));
+  const fromMs = row.segment?.fromMs ?? 0;
+  // Judged up to where the run got (a stopped or interrupted run is not judged beyond it).
+  const endMs = Math.max(fromMs, Math.min(row.positionMs, row.segment?.toMs ?? rec.durationMs, rec.durationMs));
+  const out: PanelJudgement[] = [];
+  for (const p of row.panels) {
+    const def = p.definition;
+    const full = expectTimelines(def, rec.frames, { endMs: rec.durationMs });
+    const timelines = { ...full, startMs: fromMs, endMs };
+    const byId = new Map(def.elements.map((el) => [el.id, el]));
+    const seen = (await seenLogOf(db, row, p.panelId)).filter((r) => r.sample.t <= endMs);
+    const status = row.linkStatus.find((l) => l.panelId === p.panelId);
+    const ids = def.elements.map((e) => e.id);
+    const gaps = (status?.gaps ?? []).map((gap) => ({ elementIds: ids, gap }));
+    const judgement = judgeOffline(timelines, seen, gaps, (id) => tolerancesOf(byId.get(id), tolerance));
+    out.push({ panelId: p.panelId, ordinals: new Map(ids.map((id, i) => [id, i])), judgement });
+  }
+  return out;
+}
+
+/** Writes a judgement as the run's results: element rows and mismatches replaced whole, in batches. */
+export async function storeJudgement(db: Database, runId: string, panels: PanelJudgement[], batch = 1000): Promise<void> {
+  const counts = { ...EMPTY_COUNTS };
+  let mismatchTotal = 0;
+  await db.transaction(async (tx) => {
+    await tx.delete(mismatch).where(eq(mismatch.runId, runId));
+    await tx.delete(runElementResult).where(eq(runElementResult.runId, runId));
+    const elementRows = panels.flatMap((p) =>
+      p.judgement.elements.map((e) => ({
+        runId,
+        panelId: p.panelId,
+        elementId: e.elementId,
+        ordinal: p.ordinals.get(e.elementId) ?? 0,
+        label: e.label,
+        kind: e.kind,
+        status: e.status,
+        mismatchCount: e.mismatches.length,
+        lag: e.lag,
+        noDataMs: e.noDataMs,
+        reports: e.reports,
+      })),
+    );
+    for (const e of elementRows) counts[e.status]++;
+    for (let i = 0; i < elementRows.length; i += batch) await tx.insert(runElementResult).values(elementRows.slice(i, i + batch));
+    for (const p of panels) {
+      mismatchTotal += p.judgement.mismatches.length;
+      await insertMismatches(tx, runId, p.panelId, p.judgement.mismatches, batch);
+    }
+    const lag = summarizeLagsOf(panels);
+    await tx.update(run).set({ counts, mismatchCount: mismatchTotal, lag, judgedAt: new Date() }).where(eq(run.id, runId));
+  });
+}
+
+/**
+ * Run-wide lag. One panel: its judge's own percentiles. Several: the judge keeps no raw samples
+ * across panels, so the count is summed and p50, p95 and max are the worst panel's (conservative).
+ */
+export function summarizeLagsOf(panels: PanelJudgement[]) {
+  const withLag = panels.map((p) => p.judgement.lag).filter((l) => l.count > 0);
+  if (withLag.length <= 1) return withLag[0] ?? summarizeLags([]);
+  const worst = (k: "p50" | "p95" | "max") => Math.max(...withLag.map((l) => l[k] ?? 0));
+  return { count: withLag.reduce((n, l) => n + l.count, 0), p50: worst("p50"), p95: worst("p95"), max: worst("max") };
+}
+
+/**
+ * Mismatch rows in batches of `batch`: one INSERT ... SELECT FROM json_to_recordset() per batch,
+ * one parameter instead of eleven per row (drizzle's multi-row VALUES was 9 times slower
+ * than COPY; this runs close to it, see bench/runs.bench.ts). Never one insert per interval.
+ */
+export async function insertMismatches(db: DbOrTx, runId: string, panelId: string, list: readonly Mismatch[], batch = 5000): Promise<void> {
+  for (let i = 0; i < list.length; i += batch) {
+    const rows = JSON.stringify(
+      list.slice(i, i + batch).map((m) => ({ e: m.elementId, tr: m.track, k: m.kind, s: m.startMs, en: m.endMs, w: m.worstError, ex: m.expected, se: m.seen, a: m.atMs })),
+    );
+    await db.execute(sql`
+      INSERT INTO mismatch (run_id, panel_id, element_id, track, kind, start_ms, end_ms, worst_error, expected, seen, at_ms)
+      SELECT ${runId}, ${panelId}, e, tr, k, s, en, w, ex, se, a
+      FROM json_to_recordset(${rows}::json) AS x(e text, tr text, k text, s float8, en float8, w float8, ex text, se text, a float8)`);
+  }
+}
+
+/** Judges a run from storage with its own tolerance and stores the result. */
+export async function judgeRun(db: Database, runId: string, tolerance?: Partial<Tolerances>): Promise<void> {
+  const [row] = await db.select().from(run).where(eq(run.id, runId));
+  if (!row) return;
+  const panels = await judgeStored(db, row, tolerance ?? row.tolerance);
+  await storeJudgement(db, runId, panels);
+}
+
