@@ -23,7 +23,8 @@ export default defineConfig({
     command: "node --import tsx server/index.ts",
     url: `${baseURL}/api/health`,
     reuseExistingServer: false,
-    timeout: 60_000,
+    // Compiling the server through tsx on a busy two-core machine has taken over a minute.
+    timeout: 180_000,
     env: {
       NODE_ENV: "test",
       DATABASE_URL: process.env.TEST_DATABASE_URL ?? "",

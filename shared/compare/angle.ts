@@ -127,8 +127,12 @@ export class AngleTrackJudge {
     return toHi <= toLo ? { error: toHi, expected: ((r.hi % 360) + 360) % 360 } : { error: toLo, expected: ((r.lo % 360) + 360) % 360 };
   }
 
-  private inGap(t: number) {
-    for (const g of this.gaps) if (t >= g.fromMs && t < g.toMs) return true;
+  /** In a gap, or holding a report from before a gap that has ended since: no data either way. */
+  private noDataAt(t: number, seenT: number) {
+    for (const g of this.gaps) {
+      if (t >= g.fromMs && t < g.toMs) return true;
+      if (seenT < g.toMs && g.toMs <= t) return true;
+    }
     return false;
   }
 
@@ -182,7 +186,7 @@ export class AngleTrackJudge {
       p.expected = undefined;
       p.seen = undefined;
       const started = this.track.t.length > 0 && this.track.t[0] <= a;
-      if (started && (this.seenIndex < 0 || this.inGap(a))) p.noData = true;
+      if (started && (this.seenIndex < 0 || (this.gaps.length > 0 && this.noDataAt(a, this.seenT[this.seenIndex])))) p.noData = true;
       else if (started) {
         const seen = this.seenAngle[this.seenIndex];
         const d = this.distance(a, seen);

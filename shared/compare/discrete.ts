@@ -48,8 +48,13 @@ export class DiscreteTrackJudge<V> {
     if (gap.toMs > gap.fromMs) this.gaps.push(gap);
   }
 
-  private inGap(t: number) {
-    return this.gaps.some((g) => t >= g.fromMs && t < g.toMs);
+  /** In a gap, or holding a report from before a gap that has ended since: no data either way. */
+  private noDataAt(t: number, seenT: number) {
+    for (const g of this.gaps) {
+      if (t >= g.fromMs && t < g.toMs) return true;
+      if (seenT < g.toMs && g.toMs <= t) return true;
+    }
+    return false;
   }
 
   /** Settles [cursor, t). */
@@ -79,7 +84,7 @@ export class DiscreteTrackJudge<V> {
       if (exp === undefined) {
         // Nothing is expected yet (the recording has not set the channel): not judged.
         this.sweep.feed({ from: a, to: b, noData: false, bad: false, error: 0, errorAt: a, expected: undefined, seen: undefined, cause });
-      } else if (seen === undefined || this.inGap(a)) {
+      } else if (seen === undefined || (this.gaps.length > 0 && this.noDataAt(a, seen.t))) {
         this.sweep.feed({ from: a, to: b, noData: true, bad: false, error: 0, errorAt: a, expected: exp.shows, seen: undefined, cause });
       } else {
         const equal = this.rules.equal(exp.shows, seen.shows);

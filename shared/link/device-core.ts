@@ -25,6 +25,9 @@ export interface EmulatedDeviceOptions {
   uptimeMs?: () => number;
 }
 
+/** How often a seen report repeats every element instead of only what changed. */
+export const FULL_REPORT_EVERY = 10;
+
 export class EmulatedDeviceCore {
   private readonly values = new Map<number, ChannelValue>();
   private readonly queue: LinkMessage[] = [];
@@ -56,10 +59,15 @@ export class EmulatedDeviceCore {
   /** What each element showed in the last report, to send only what changed (as the firmware does). */
   private readonly reported = new Map<number, string>();
 
+  private reportsSent = 0;
+
   private seenReport(): LinkMessage {
+    // Every tenth report is complete: an answer lost on a busy bus is then made good within ten
+    // turns instead of never (the device cannot know the bench missed it).
+    const full = ++this.reportsSent % FULL_REPORT_EVERY === 0;
     const changed = this.options.show(this.values).filter((entry) => {
       const key = JSON.stringify(entry);
-      if (this.reported.get(entry.element) === key) return false;
+      if (!full && this.reported.get(entry.element) === key) return false;
       this.reported.set(entry.element, key);
       return true;
     });

@@ -81,6 +81,31 @@ describe("judging a lamp", () => {
   });
 });
 
+describe("after a link gap", () => {
+  it("a report from before the gap does not count again once the link is back", () => {
+    const judge = new ElementJudge(fireLamp, TOL, 0);
+    judge.addGap({ fromMs: 500, toMs: 900 });
+    judge.addSeen({ t: 0, shows: { track: "lamp", lamp: OFF } });
+    judge.addSeen({ t: 2000, shows: { track: "lamp", lamp: ON } });
+    judge.addSeen({ t: 3000, shows: { track: "lamp", lamp: OFF } });
+    const r = judge.finish(5000, false);
+    // No data from 500 ms (the gap) until the first report after it at 2,000 ms: never "stuck off".
+    expect(r.noDataMs).toBe(1500);
+    expect(r.mismatches).toEqual([]);
+  });
+
+  it("the same holds for a pointer", () => {
+    const needle: ElementTimeline = { id: "n", kind: "pointer", label: "N", placeholder: false, tracks: {}, angle: { t: [0, 1000, 3000], angle: [0, 0, 100], wrap: false } };
+    const judge = new ElementJudge(needle, { ...TOL, lagBudgetMs: 300 }, 0);
+    judge.addGap({ fromMs: 500, toMs: 900 });
+    judge.addSeen({ t: 0, shows: { track: "angle", angle: 0 } });
+    judge.addSeen({ t: 3000, shows: { track: "angle", angle: 100 } });
+    const r = judge.finish(4000, false);
+    expect(r.mismatches).toEqual([]);
+    expect(r.noDataMs).toBe(2500);
+  });
+});
+
 describe("judging a pointer", () => {
   const ramp = (wrap = false): ElementTimeline => ({
     id: "airspeed",
