@@ -257,6 +257,16 @@ function ScaleEditor({
             <span className="font-semibold">This pointer is driven by a stepper motor</span>
           </label>
           {motorOn && (
+            <p role="note" className="mb-3 rounded-md border border-amber/50 bg-amber/5 px-3 py-2 text-xs text-ink">
+              <span aria-hidden="true" className="mr-1 font-mono">△</span>
+              <span className="font-semibold">Caution: </span>
+              set the driver's current limit for your motor before connecting it, and check the driver's and
+              motor's temperature after a long sweep test; fuse each supply. These figures come from the
+              motor's datasheet and your measurements; mains wiring is for a qualified electrician under
+              your local codes.
+            </p>
+          )}
+          {motorOn && (
             <div className="grid gap-3 sm:grid-cols-2">
               <label className="flex flex-col gap-1 text-sm">
                 <span className="font-semibold">Step size given as</span>
