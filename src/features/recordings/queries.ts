@@ -62,6 +62,9 @@ export function useRecordings(workshopId: string, poll: boolean) {
     queryKey: queryKeys.recordings(workshopId),
     queryFn: () => api.get<RecordingSummary[]>(`${base(workshopId)}/recordings`),
     refetchInterval: poll ? 2000 : false,
+    // Recordings also arrive from others, the command line and captures: ask again whenever a screen
+    // that lists them opens, rather than show a list cached a few seconds earlier.
+    refetchOnMount: "always",
   });
 }
 
