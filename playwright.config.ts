@@ -23,6 +23,9 @@ export default defineConfig({
     command: "node --import tsx server/index.ts",
     url: `${baseURL}/api/health`,
     reuseExistingServer: false,
+    // The server's own output (start-up steps, errors) shows in the test log as [WebServer] lines.
+    stdout: "pipe",
+    stderr: "pipe",
     // Compiling the server through tsx on a busy two-core machine has taken over a minute.
     timeout: 180_000,
     env: {

@@ -66,11 +66,16 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     maxUploadBytes: env.MAX_UPLOAD_BYTES,
     pollingIntervalSeconds: env.IMPORT_POLL_SECONDS,
   });
+  // Each step of start-up is timed on stderr, so a start that hangs says where.
+  const began = performance.now();
+  const step = (what: string) => console.error(`[panelproof] start: ${what} (${Math.round(performance.now() - began)} ms)`);
   await jobs.start();
+  step("job queue ready");
   const captures = new CaptureManager({ db, auth, upgrades, trustedOrigins, udpHost: env.CAPTURE_UDP_HOST });
   const runs = new RunManager({ db, auth, upgrades, trustedOrigins });
   // Runs a previous process held and no longer stamps were interrupted; play resumes them.
   await runs.markInterrupted();
+  step("interrupted runs marked");
   const services: Services = {
     db,
     auth,

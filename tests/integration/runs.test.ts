@@ -48,8 +48,15 @@ async function makePanel(slug: string, name: string): Promise<{ id: string; defi
   return { id: made.body.id, definition: panelSchema.parse(def) };
 }
 
+/**
+ * Runs here allow 800 ms of lag: the emulator answers through timers and sockets on a shared
+ * two-core machine that may be busy with other test files, and these tests are about what the
+ * bench does, not about how fast this machine is. The faults they inject last seconds.
+ */
+const TEST_TOLERANCE = { lagBudgetMs: 800 };
+
 async function createRun(links: unknown[], extra: Record<string, unknown> = {}) {
-  const made = await bench.visitors.builder.post(`${base}/runs`, { recordingId, links, speed: SPEED, ...extra });
+  const made = await bench.visitors.builder.post(`${base}/runs`, { recordingId, links, speed: SPEED, tolerance: TEST_TOLERANCE, ...extra });
   expect(made.status, JSON.stringify(made.body)).toBe(201);
   return made.body.id as string;
 }
@@ -176,7 +183,7 @@ describe("a run into a virtual panel driven by the device emulator over the WebS
     expect(rejudged.body.mismatchCount).toBe(0);
     expect(rejudged.body.positionMs).toBe(8000);
     // And back: the same stored log gives the same two failures.
-    const again = await bench.visitors.builder.post(`${base}/runs/${runId}/rejudge`, {});
+    const again = await bench.visitors.builder.post(`${base}/runs/${runId}/rejudge`, TEST_TOLERANCE);
     expect(again.body.counts).toMatchObject({ pass: 3, fail: 2 });
   }, 40_000);
 
