@@ -414,6 +414,13 @@ export class RunSession {
 
   private syncState() {
     const s = this.player.state;
+    // The player reaching its end is not the run finishing: that is finish(), once the results
+    // are judged and stored. Until then the run still reads as playing, so nobody reads a
+    // "finished" run without its results.
+    if (s === "finished") {
+      if (this.state !== "finished") this.state = "playing";
+      return;
+    }
     this.state = s === "idle" || s === "loading" ? "ready" : s;
   }
 

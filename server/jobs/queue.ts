@@ -42,7 +42,7 @@ export class Jobs {
     await this.boss.start();
     // An import is all or nothing and records its own failure; a retry only helps when the
     // process died mid-import (the job then expires and runs again from the start).
-    await this.boss.createQueue(this.importQueue, { name: this.importQueue, retryLimit: 1, expireInSeconds: 60 * 60 });
+    await createQueueRetrying(() => this.boss.createQueue(this.importQueue, { name: this.importQueue, retryLimit: 1, expireInSeconds: 60 * 60 }));
     this.workerId = await this.boss.work<{ importId: string }>(
       this.importQueue,
       { pollingIntervalSeconds: this.options.pollingIntervalSeconds, batchSize: 1 },
@@ -71,5 +71,23 @@ export class Jobs {
   async stop(): Promise<void> {
     await this.boss.stop({ graceful: true, wait: true, timeout: 30_000 });
     await Promise.allSettled([...this.running]);
+  }
+}
+
+/**
+ * pg-boss makes a table partition per queue; two processes doing so at the same moment can
+ * deadlock (PostgreSQL aborts one with 40P01, seen when test servers start together). The
+ * aborted one simply tries again after a short random pause.
+ */
+async function createQueueRetrying(create: () => Promise<void>, attempts = 8): Promise<void> {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      await create();
+      return;
+    } catch (err) {
+      const code = (err as { code?: string }).code;
+      if (attempt >= attempts || (code !== "40P01" && code !== "55P03")) throw err;
+      await new Promise((r) => setTimeout(r, 50 + Math.random() * 250 * attempt));
+    }
   }
 }
