@@ -31,6 +31,15 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     httpServer.once("error", reject);
     httpServer.listen(env.PORT, env.HOST, () => resolve());
   });
+  // The port is taken first (so its number is known for links and mail), but the app is wired
+  // up after the database, queue and runs are ready. Until then every request gets a quick 503
+  // instead of hanging with no answer (a health check that waits forever never retries).
+  let handle: ((req: http.IncomingMessage, res: http.ServerResponse) => void) | null = null;
+  httpServer.on("request", (req, res) => {
+    if (handle) return handle(req, res);
+    res.writeHead(503, { "content-type": "application/json", "retry-after": "1" });
+    res.end(JSON.stringify({ error: { code: "unavailable", message: "Panelproof is starting; try again in a moment." } }));
+  });
   const port = (httpServer.address() as AddressInfo).port;
   const baseUrl = env.BASE_URL ?? `http://${env.HOST}:${port}`;
 
@@ -90,7 +99,7 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     runs,
     maxUploadBytes: env.MAX_UPLOAD_BYTES,
   };
-  httpServer.on("request", createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins, behindProxy: env.BEHIND_PROXY === "true" }));
+  handle = createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins, behindProxy: env.BEHIND_PROXY === "true" });
 
   return {
     url: baseUrl,
