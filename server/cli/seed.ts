@@ -16,6 +16,7 @@ import { DEMO_PASSWORD, DEMO_PEOPLE, DEMO_WORKSHOP } from "./demo-data";
 
 const DEMO_SCENARIO = new URL("../../recordings/demo-engine-fire-drill.scenario.json", import.meta.url);
 const DEMO_RECORDING = new URL("../../recordings/demo-pattern-flight.ppr.jsonl", import.meta.url);
+const DEMO_FULL_CHECK = new URL("../../recordings/demo-full-panel-check.scenario.json", import.meta.url);
 
 /**
  * Loads the demo workshop: an invented club, its people and their roles.
@@ -58,6 +59,7 @@ export async function seedDemo(url: string, baseUrl = "http://127.0.0.1") {
     }
     const airframeId = await seedRecordings(db, workshop.id, ids[owner.email]);
     await seedPanels(db, workshop.id, airframeId, ids[owner.email]);
+    await seedFullCheck(db, workshop.id, airframeId, ids[owner.email]);
     return { workshopId: workshop.id };
   } finally {
     await db.$client.end();
@@ -148,4 +150,18 @@ async function seedPanels(db: Database, workshopId: string, airframeId: string, 
     await db.insert(panel).values({ id, workshopId, airframeId, slug: definition.id, name: definition.name, definition, mirrorOf, createdById: ownerId });
     bySlug.set(definition.id, id);
   }
+}
+
+/**
+ * The full panel check: a scenario that moves every channel the demo panels read (cautions,
+ * fires, breakers, a fast descent, power off and on). Stored after the panels, whose channels
+ * it uses, are in the catalogue.
+ */
+async function seedFullCheck(db: Database, workshopId: string, airframeId: string, ownerId: string) {
+  const scenario = JSON.parse(readFileSync(DEMO_FULL_CHECK, "utf8")) as { name: string };
+  const name = `${scenario.name} (generated)`;
+  const exists = await db.select({ id: recording.id }).from(recording).where(and(eq(recording.workshopId, workshopId), eq(recording.name, name)));
+  if (exists.length > 0) return;
+  const [frame] = await db.select().from(airframe).where(eq(airframe.id, airframeId));
+  await storeScenario({ db }, { workshopId, airframeId, catalogue: frame.channels, name, scenario, createdById: ownerId });
 }
