@@ -14,16 +14,21 @@ const lines = [];
 if (exitOf("tsc") === 0) passed += 1; else failed += 1;
 lines.push(`type-check: ${exitOf("tsc") === 0 ? "clean" : "errors"}`);
 
-const vitest = read("vitest.json");
-if (vitest) {
-  const r = JSON.parse(vitest);
+for (const name of ["vitest", "vitest-timing"]) {
+  const report = read(`${name}.json`);
+  if (!report) {
+    failed += 1;
+    lines.push(`${name}: no report (runner crashed)`);
+    continue;
+  }
+  const r = JSON.parse(report);
   const p = r.numPassedTests ?? 0, f = r.numFailedTests ?? 0, s = (r.numPendingTests ?? 0) + (r.numTodoTests ?? 0);
   // Files that failed to load have no tests counted; count each as a failure.
   const brokenFiles = (r.testResults ?? []).filter((t) => t.status === "failed" && (t.assertionResults ?? []).length === 0).length;
   passed += p; failed += f + brokenFiles; skipped += s;
-  lines.push(`vitest: ${p} passed, ${f + brokenFiles} failed, ${s} skipped`);
-} else { failed += 1; lines.push("vitest: no report (runner crashed)"); }
-if (vitest && exitOf("vitest") !== 0 && failed === 0) { failed += 1; lines.push("vitest: non-zero exit"); }
+  lines.push(`${name}: ${p} passed, ${f + brokenFiles} failed, ${s} skipped`);
+  if (exitOf(name) !== 0 && f + brokenFiles === 0) { failed += 1; lines.push(`${name}: non-zero exit`); }
+}
 
 const pw = read("playwright.json");
 if (pw) {

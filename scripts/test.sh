@@ -36,8 +36,11 @@ echo $? > "$RESULTS/tsc.exit"
 cat "$RESULTS/tsc.txt"
 
 say "unit and integration tests (Vitest)"
-npx vitest run --reporter=default --reporter=json --outputFile.json="$RESULTS/vitest.json"
+VITEST_PHASE=parallel npx vitest run --reporter=default --reporter=json --outputFile.json="$RESULTS/vitest.json"
 echo $? > "$RESULTS/vitest.exit"
+say "timing-sensitive tests, one file at a time (Vitest)"
+VITEST_PHASE=timing npx vitest run --reporter=default --reporter=json --outputFile.json="$RESULTS/vitest-timing.json"
+echo $? > "$RESULTS/vitest-timing.exit"
 
 say "end-to-end tests (Playwright in Debian's Chromium)"
 npx vite build --logLevel warn > "$RESULTS/build.txt" 2>&1 || cat "$RESULTS/build.txt"

@@ -29,6 +29,12 @@ const CaptureLive = lazy(() => import("./routes/Capture").then((m) => ({ default
 const Panels = lazy(() => import("./routes/Panels").then((m) => ({ default: m.Panels })));
 const PanelPage = lazy(() => import("./routes/PanelPage").then((m) => ({ default: m.PanelPage })));
 const PanelScale = lazy(() => import("./routes/PanelScale").then((m) => ({ default: m.PanelScale })));
+// Run screens (issues 5 and 6): the runs table, setting one up, the console, the report, a shared report.
+const Runs = lazy(() => import("./routes/Runs").then((m) => ({ default: m.Runs })));
+const RunSetup = lazy(() => import("./routes/RunSetup").then((m) => ({ default: m.RunSetup })));
+const RunConsole = lazy(() => import("./routes/RunConsole").then((m) => ({ default: m.RunConsole })));
+const RunReport = lazy(() => import("./routes/RunReport").then((m) => ({ default: m.RunReport })));
+const SharedReport = lazy(() => import("./routes/SharedReport").then((m) => ({ default: m.SharedReport })));
 const later = (screen: ReactNode) => <Suspense fallback={<Loading what="Opening" />}>{screen}</Suspense>;
 
 const queryClient = new QueryClient({
@@ -42,6 +48,7 @@ const router = createBrowserRouter([
   { path: "/reset-password", element: <ResetPassword /> },
   { path: "/invitations/:invitationId", element: <InvitationAccept /> },
   { path: "/outbox", element: <OutboxPage /> },
+  { path: "/shared/:token", element: later(<SharedReport />) },
   {
     element: <AppShell />,
     children: [
@@ -63,6 +70,10 @@ const router = createBrowserRouter([
           { path: "panels", element: later(<Panels />) },
           { path: "panels/:panelId", element: later(<PanelPage />) },
           { path: "panels/:panelId/pointers/:elementId", element: later(<PanelScale />) },
+          { path: "runs", element: later(<Runs />) },
+          { path: "runs/new", element: later(<RunSetup />) },
+          { path: "runs/:runId", element: later(<RunConsole />) },
+          { path: "runs/:runId/report", element: later(<RunReport />) },
         ],
       },
     ],

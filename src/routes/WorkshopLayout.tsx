@@ -33,6 +33,9 @@ export function WorkshopLayout() {
         <NavLink to={`/w/${w.id}/panels`} className={tab}>
           Panels
         </NavLink>
+        <NavLink to={`/w/${w.id}/runs`} className={tab}>
+          Runs
+        </NavLink>
         <NavLink to={`/w/${w.id}/members`} className={tab}>
           People
         </NavLink>

@@ -1,0 +1,128 @@
+import {
+  createColumnHelper,
+  flexRender,
+  getCoreRowModel,
+  getFilteredRowModel,
+  getSortedRowModel,
+  useReactTable,
+  type ColumnFiltersState,
+  type SortingState,
+} from "@tanstack/react-table";
+import { useMemo, useState } from "react";
+import { MISMATCH_KINDS } from "../../../shared/compare/types";
+import type { LiveMismatch } from "./live";
+import { clock, Empty, MISMATCH_WORDS } from "./words";
+
+const col = createColumnHelper<LiveMismatch>();
+
+/** Every mismatch kept: sortable, filtered by element and kind; a click seeks there when allowed. */
+export function MismatchTable({ mismatches, labels, onSeek }: { mismatches: LiveMismatch[]; labels: Record<string, string>; onSeek?: (ms: number) => void }) {
+  const [sorting, setSorting] = useState<SortingState>([{ id: "startMs", desc: false }]);
+  const [filters, setFilters] = useState<ColumnFiltersState>([]);
+  const columns = useMemo(
+    () => [
+      col.accessor("startMs", { header: "From", cell: (c) => clock(c.getValue()) }),
+      col.accessor("endMs", { header: "To", cell: (c) => clock(c.getValue()) }),
+      col.accessor("elementId", { header: "Element", filterFn: "equals", cell: (c) => labels[c.getValue()] ?? c.getValue() }),
+      col.accessor("kind", { header: "Kind", filterFn: "equals", cell: (c) => MISMATCH_WORDS[c.getValue()] ?? c.getValue() }),
+      col.accessor("expected", { header: "Expected" }),
+      col.accessor("seen", { header: "Seen" }),
+      col.accessor("worstError", { header: "Worst", cell: (c) => Math.round(c.getValue() * 10) / 10 }),
+    ],
+    [labels],
+  );
+  const table = useReactTable({
+    data: mismatches,
+    columns,
+    state: { sorting, columnFilters: filters },
+    onSortingChange: setSorting,
+    onColumnFiltersChange: setFilters,
+    getCoreRowModel: getCoreRowModel(),
+    getSortedRowModel: getSortedRowModel(),
+    getFilteredRowModel: getFilteredRowModel(),
+  });
+  const elements = [...new Set(mismatches.map((m) => m.elementId))].sort();
+  const value = (id: string) => (filters.find((f) => f.id === id)?.value as string | undefined) ?? "";
+  const setFilter = (id: string, v: string) => setFilters((old) => [...old.filter((f) => f.id !== id), ...(v ? [{ id, value: v }] : [])]);
+
+  if (mismatches.length === 0) return <Empty>No mismatch so far.</Empty>;
+  const rows = table.getRowModel().rows;
+  return (
+    <div className="flex flex-col gap-3">
+      <div className="flex flex-wrap items-end gap-3" role="search" aria-label="Filter mismatches">
+        <label className="flex flex-col gap-1 text-sm font-semibold">
+          Element
+          <select value={value("elementId")} onChange={(e) => setFilter("elementId", e.target.value)} className="rounded-md border border-rule bg-card px-2 py-1.5 font-normal">
+            <option value="">every element</option>
+            {elements.map((id) => (
+              <option key={id} value={id}>
+                {labels[id] ?? id}
+              </option>
+            ))}
+          </select>
+        </label>
+        <label className="flex flex-col gap-1 text-sm font-semibold">
+          Kind
+          <select value={value("kind")} onChange={(e) => setFilter("kind", e.target.value)} className="rounded-md border border-rule bg-card px-2 py-1.5 font-normal">
+            <option value="">every kind</option>
+            {MISMATCH_KINDS.map((k) => (
+              <option key={k} value={k}>
+                {MISMATCH_WORDS[k]}
+              </option>
+            ))}
+          </select>
+        </label>
+        <p className="ml-auto text-sm text-ink-soft" role="status">
+          {rows.length === mismatches.length ? `${mismatches.length} ${mismatches.length === 1 ? "mismatch" : "mismatches"}` : `${rows.length} of ${mismatches.length} mismatches`}
+        </p>
+      </div>
+      <div className="overflow-x-auto rounded-lg border border-rule bg-card">
+        <table className="w-full text-left text-sm" aria-label="Mismatches">
+          <thead className="border-b border-rule bg-paper/60 text-ink-soft">
+            {table.getHeaderGroups().map((g) => (
+              <tr key={g.id}>
+                {g.headers.map((h) => {
+                  const sorted = h.column.getIsSorted();
+                  return (
+                    <th key={h.id} scope="col" aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined} className="px-3 py-2 font-semibold whitespace-nowrap">
+                      <button type="button" onClick={h.column.getToggleSortingHandler()} className="inline-flex items-center gap-1 hover:text-ink">
+                        {flexRender(h.column.columnDef.header, h.getContext())}
+                        <span aria-hidden="true" className="font-mono text-[10px]">
+                          {sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "△▽"}
+                        </span>
+                      </button>
+                    </th>
+                  );
+                })}
+              </tr>
+            ))}
+          </thead>
+          <tbody>
+            {rows.map((row) => (
+              <tr
+                key={row.id}
+                data-element={row.original.elementId}
+                onClick={onSeek ? () => onSeek(row.original.startMs) : undefined}
+                className={`border-b border-rule/60 last:border-0 hover:bg-paper/50 ${onSeek ? "cursor-pointer" : ""}`}
+                title={onSeek ? "Go to this moment" : undefined}
+              >
+                {row.getVisibleCells().map((cell) => (
+                  <td key={cell.id} className="px-3 py-2 align-middle">
+                    {flexRender(cell.column.columnDef.cell, cell.getContext())}
+                  </td>
+                ))}
+              </tr>
+            ))}
+            {rows.length === 0 && (
+              <tr>
+                <td colSpan={columns.length} className="px-3 py-6 text-center text-ink-soft">
+                  No mismatch matches these filters.
+                </td>
+              </tr>
+            )}
+          </tbody>
+        </table>
+      </div>
+    </div>
+  );
+}
