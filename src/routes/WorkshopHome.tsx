@@ -3,6 +3,7 @@ import type { WorkshopDetail } from "../../shared/api/workshops";
 import { Card } from "../components/ui";
 import { useRecordings } from "../features/recordings/queries";
 import { usePanels } from "../features/panels/queries";
+import { useRuns } from "../features/runs/queries";
 
 const STEPS = [
   {
@@ -29,6 +30,7 @@ export function WorkshopHome() {
   const recordings = useRecordings(w.id, false);
   const recordingCount = recordings.data?.length ?? 0;
   const panelCount = usePanels(w.id).data?.length ?? 0;
+  const runCount = useRuns(w.id).data?.length ?? 0;
   return (
     <div className="grid gap-5 md:grid-cols-3">
       {STEPS.map((s, i) => (
@@ -49,6 +51,10 @@ export function WorkshopHome() {
             <p className="font-semibold">
               {panelCount} {panelCount === 1 ? "panel" : "panels"} described.
             </p>
+          ) : s.title === "Runs" && runCount > 0 ? (
+            <p className="font-semibold">
+              {runCount} {runCount === 1 ? "run" : "runs"} so far.
+            </p>
           ) : (
             <p className="font-semibold">{s.empty}</p>
           )}
@@ -63,7 +69,11 @@ export function WorkshopHome() {
               {canChange ? "Open panels, describe or import one →" : "Open panels →"}
             </Link>
           )}
-          {!canChange && s.title === "Runs" && <p className="mt-3 text-sm text-ink-soft">As a viewer you will see these when builders add them.</p>}
+          {s.title === "Runs" && (
+            <Link to={`/w/${w.id}/runs`} className="mt-3 inline-block text-sm font-semibold text-ink underline decoration-amber/60 underline-offset-2 hover:decoration-amber">
+              {canChange ? "Open runs, set one up →" : "Open runs →"}
+            </Link>
+          )}
         </Card>
       ))}
       <p className="text-sm text-ink-soft md:col-span-3">
