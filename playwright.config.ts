@@ -6,7 +6,8 @@ const baseURL = `http://127.0.0.1:${port}`;
 export default defineConfig({
   testDir: "tests/e2e",
   workers: 1,
-  retries: 0,
+  // One retry for a browser test that lost a race with a busy machine; the summary names it flaky.
+  retries: 1,
   timeout: 60_000,
   outputDir: ".data/test-results/playwright-artifacts",
   use: {
