@@ -9,7 +9,7 @@ import { utf8Length } from "../../shared/link/text";
 import { panelChannels, type Panel } from "../../shared/panel/schema";
 import type { ChannelDefinition, ChannelValue } from "../../shared/recording/channels";
 import type { Fault } from "../../shared/virtual/faults";
-import { PanelValueMap } from "./values";
+import { PanelValueMap } from "../../shared/link/panel-values";
 
 /**
  * A panel with no hardware, behind the real link protocol: what the device emulator CLI

@@ -19,7 +19,7 @@ import { run, seenLog, type RunPanelSnapshot, type StoredLinkStatus } from "../d
 import { ReplayScheduler } from "./scheduler";
 import { DirectLink, Rs485Port, SerialLink, type LinkEvents, type PanelLink } from "./links";
 import { encodeSeenChunk, type SeenRecord } from "./seen-log";
-import { PanelValueMap } from "./values";
+import { PanelValueMap } from "../../shared/link/panel-values";
 
 type RunState = (typeof RUN_STATES)[number];
 type RunRow = typeof run.$inferSelect;

@@ -4,6 +4,7 @@ import { encodeLinkFrame } from "../../../shared/link/codec";
 import { EmulatedDeviceCore } from "../../../shared/link/device-core";
 import type { ChannelValue as LinkValue, LinkFrame, SeenEntry } from "../../../shared/link/messages";
 import { LINK_MAX_TEXT_BYTES } from "../../../shared/link/protocol";
+import { PanelValueMap } from "../../../shared/link/panel-values";
 import { LinkStreamDecoder } from "../../../shared/link/stream";
 import { utf8Length } from "../../../shared/link/text";
 import { panelChannels, type Panel } from "../../../shared/panel/schema";
@@ -24,7 +25,7 @@ export class BrowserPanel {
   readonly core: EmulatedDeviceCore;
   readonly decoder = new LinkStreamDecoder({ acceptFrom: "bench" });
   private readonly channels: string[];
-  private readonly enums = new Map<string, readonly string[]>();
+  private readonly map: PanelValueMap;
   private started: number | null = null;
   private elapsed = 0;
   private lastNow = 0;
@@ -45,7 +46,7 @@ export class BrowserPanel {
     readonly faults: readonly Fault[],
   ) {
     this.channels = panelChannels(panel);
-    for (const d of definitions) if (d.kind === "enum") this.enums.set(d.name, d.values);
+    this.map = new PanelValueMap(this.channels, definitions);
     this.core = new EmulatedDeviceCore({
       address: 0,
       deviceId: "00000000b0b0b0b0",
@@ -85,13 +86,6 @@ export class BrowserPanel {
     return this.core.powerUp().map((f) => encodeLinkFrame(f));
   }
 
-  private fromLink(v: LinkValue): { name: string; value: ChannelValue } | null {
-    const name = this.channels[v.channel];
-    if (name === undefined) return null;
-    if (v.kind === "enum") return { name, value: this.enums.get(name)?.[v.value] ?? v.value };
-    return { name, value: v.value };
-  }
-
   private noteValues(values: ReadonlyMap<number, LinkValue>) {
     if (this.started === null) {
       this.started = performance.now();
@@ -100,7 +94,7 @@ export class BrowserPanel {
     const t = this.deviceTime();
     const current: Record<string, ChannelValue> = {};
     for (const v of values.values()) {
-      const back = this.fromLink(v);
+      const back = this.map.fromLink(v);
       if (back) current[back.name] = back.value;
     }
     const changed: Record<string, ChannelValue> = {};

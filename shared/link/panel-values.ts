@@ -1,7 +1,7 @@
-import type { ChannelValue as LinkValue } from "../../shared/link/messages";
-import { LINK_MAX_TEXT_BYTES } from "../../shared/link/protocol";
-import { utf8Length } from "../../shared/link/text";
-import type { ChannelDefinition, ChannelValue } from "../../shared/recording/channels";
+import type { ChannelValue as LinkValue } from "./messages";
+import { LINK_MAX_TEXT_BYTES } from "./protocol";
+import { utf8Length } from "./text";
+import type { ChannelDefinition, ChannelValue } from "../recording/channels";
 
 /**
  * Recording values to link values and back, for one panel. Channel index = position in
