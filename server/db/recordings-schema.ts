@@ -147,6 +147,9 @@ export const capture = pgTable(
     createdById: text("created_by_id").references(() => user.id, { onDelete: "set null" }),
     startedAt: timestamp("started_at", { withTimezone: true }).defaultNow().notNull(),
     stoppedAt: timestamp("stopped_at", { withTimezone: true }),
+    /** Which server process holds the live capture, and when it last said so (a dead holder's capture is interrupted). */
+    heldBy: text("held_by"),
+    aliveAt: timestamp("alive_at", { withTimezone: true }),
   },
   (t) => [index("capture_workshop_idx").on(t.workshopId, t.startedAt)],
 );

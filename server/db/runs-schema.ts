@@ -55,6 +55,8 @@ export const run = pgTable(
     linkStatus: jsonb("link_status").$type<StoredLinkStatus[]>().notNull(),
     /** Backward seeks and loop restarts: reports of an earlier pass from `atMs` on no longer count. */
     cuts: jsonb("cuts").$type<{ epoch: number; atMs: number }[]>().notNull(),
+    /** What the builder did beside the replay: set-up check overrides, input walk, observations (shared/api/runs.ts). */
+    checks: jsonb("checks").$type<Record<string, unknown>>().notNull().default({}),
     /** Which server process holds the run's session, and when it last said so (interrupted detection). */
     heldBy: text("held_by"),
     aliveAt: timestamp("alive_at", { withTimezone: true }),
