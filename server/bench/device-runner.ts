@@ -59,8 +59,10 @@ export function hostOnWebSocket(emulator: PanelEmulator, url: string, headers: R
         .then(() => (pausedByFault = false))
         .catch(() => undefined);
     }
+    if (down || !ws || ws.readyState !== ws.OPEN) return;
+    for (const bytes of emulator.takeOutgoing()) ws.send(bytes);
     const periodic = emulator.periodic();
-    if (periodic && ws && ws.readyState === ws.OPEN && !down) ws.send(periodic);
+    if (periodic) ws.send(periodic);
   }, TICK_MS);
 
   return connect().then(() => ({
@@ -90,8 +92,10 @@ export async function hostOnSerial(emulators: PanelEmulator[], path: string, bau
   const timer = setInterval(() => {
     if (emulators.length !== 1) return; // on a bus, devices speak only when polled
     const e = emulators[0];
+    if (e.disconnectedNow()) return;
+    for (const bytes of e.takeOutgoing()) void transport.write(bytes);
     const periodic = e.periodic();
-    if (periodic && !e.disconnectedNow()) void transport.write(periodic);
+    if (periodic) void transport.write(periodic);
   }, TICK_MS);
   return {
     done,

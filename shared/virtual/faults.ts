@@ -39,7 +39,7 @@ function faultsFor(faults: readonly Fault[], id: string) {
   return faults.filter((f) => f.kind !== "disconnect" && f.element === id);
 }
 
-function lampAfterFaults(lamp: LampShows, faults: readonly Fault[]): LampShows {
+export function lampAfterFaults(lamp: LampShows, faults: readonly Fault[]): LampShows {
   let out = lamp;
   for (const f of faults) {
     if (f.kind === "lamp_stuck") out = f.lit ? { state: "on", level: 255 } : { state: "off" };
@@ -48,7 +48,7 @@ function lampAfterFaults(lamp: LampShows, faults: readonly Fault[]): LampShows {
   return out;
 }
 
-function textAfterFaults(text: string, faults: readonly Fault[]): string {
+export function textAfterFaults(text: string, faults: readonly Fault[]): string {
   let out = text;
   for (const f of faults) {
     if (f.kind === "digit_dropped" && f.position < out.length) out = `${out.slice(0, f.position)} ${out.slice(f.position + 1)}`;
