@@ -64,11 +64,27 @@ export class AngleTrackJudge {
     if (gap.toMs > gap.fromMs) this.gaps.push(gap);
   }
 
-  /** Index of the last expected point at or before t (-1 if none). */
-  private pointAt(t: number): number {
+  /**
+   * Index of the last expected point at or before t (-1 if none). Judging walks forward in time,
+   * so each caller keeps a hint (`slot`) and usually moves it a step or two instead of searching.
+   */
+  private readonly hints = [0, 0, 0];
+  private pointAt(t: number, slot = 0): number {
     const times = this.track.t;
+    const n = times.length;
+    let h = this.hints[slot];
+    if (h < n && times[h] <= t) {
+      // Walk forward a few points; beyond that a search is cheaper.
+      for (let steps = 0; steps < 8; steps++) {
+        if (h + 1 >= n || times[h + 1] > t) {
+          this.hints[slot] = h;
+          return h;
+        }
+        h++;
+      }
+    }
     let lo = 0;
-    let hi = times.length - 1;
+    let hi = n - 1;
     let found = -1;
     while (lo <= hi) {
       const mid = (lo + hi) >> 1;
@@ -77,6 +93,7 @@ export class AngleTrackJudge {
         lo = mid + 1;
       } else hi = mid - 1;
     }
+    if (found >= 0) this.hints[slot] = found;
     return found;
   }
 
@@ -86,14 +103,21 @@ export class AngleTrackJudge {
     return angle[i];
   }
 
-  /** Lowest and highest expected (travel) angle over [a, b]; null before the track starts. */
-  private rangeOver(a: number, b: number): { lo: number; hi: number; at: number } | null {
+  // Results of rangeOver and distance, kept in fields: they run for every instant judged
+  // (millions in an hour-long run) and an object per call kept the collector busy.
+  private rangeLo = 0;
+  private rangeHi = 0;
+  private distError = 0;
+  private distExpected = 0;
+
+  /** Lowest and highest expected (travel) angle over [a, b] into rangeLo/rangeHi; false before the track starts. */
+  private rangeOver(a: number, b: number): boolean {
     const times = this.track.t;
-    let i = this.pointAt(a);
+    let i = this.pointAt(a, 1);
     let lo: number;
     let hi: number;
     if (i < 0) {
-      if (times.length === 0 || times[0] > b) return null;
+      if (times.length === 0 || times[0] > b) return false;
       i = 0;
       lo = hi = this.track.angle[0];
     } else {
@@ -104,27 +128,39 @@ export class AngleTrackJudge {
       if (v < lo) lo = v;
       if (v > hi) hi = v;
     }
-    const end = this.valueAt(this.pointAt(b), b);
+    const end = this.valueAt(this.pointAt(b, 2), b);
     if (end < lo) lo = end;
     if (end > hi) hi = end;
-    return { lo, hi, at: end };
+    this.rangeLo = lo;
+    this.rangeHi = hi;
+    return true;
   }
 
-  /** How far a needle at `seen` is from anything the expected needle showed over the window ending at t. */
-  private distance(t: number, seen: number): { error: number; expected: number } | null {
-    const r = this.rangeOver(t - this.lagBudgetMs, t);
-    if (!r) return null;
+  /**
+   * How far a needle at `seen` is from anything the expected needle showed over the window
+   * ending at t, into distError/distExpected; false before the track starts.
+   */
+  private distance(t: number, seen: number): boolean {
+    if (!this.rangeOver(t - this.lagBudgetMs, t)) return false;
+    const lo = this.rangeLo;
+    const hi = this.rangeHi;
     if (!this.track.wrap) {
-      if (seen >= r.lo && seen <= r.hi) return { error: 0, expected: seen };
-      return seen < r.lo ? { error: r.lo - seen, expected: r.lo } : { error: seen - r.hi, expected: r.hi };
+      if (seen >= lo && seen <= hi) return this.distanceIs(0, seen);
+      return seen < lo ? this.distanceIs(lo - seen, lo) : this.distanceIs(seen - hi, hi);
     }
-    if (r.hi - r.lo >= 360) return { error: 0, expected: seen };
+    if (hi - lo >= 360) return this.distanceIs(0, seen);
     // Bring the needle's angle to the turn just above the window's low end.
-    const shifted = r.lo + ((((seen - r.lo) % 360) + 360) % 360);
-    if (shifted <= r.hi) return { error: 0, expected: seen };
-    const toHi = Math.abs(fold(shifted - r.hi));
-    const toLo = Math.abs(fold(shifted - r.lo));
-    return toHi <= toLo ? { error: toHi, expected: ((r.hi % 360) + 360) % 360 } : { error: toLo, expected: ((r.lo % 360) + 360) % 360 };
+    const shifted = lo + ((((seen - lo) % 360) + 360) % 360);
+    if (shifted <= hi) return this.distanceIs(0, seen);
+    const toHi = Math.abs(fold(shifted - hi));
+    const toLo = Math.abs(fold(shifted - lo));
+    return toHi <= toLo ? this.distanceIs(toHi, ((hi % 360) + 360) % 360) : this.distanceIs(toLo, ((lo % 360) + 360) % 360);
+  }
+
+  private distanceIs(error: number, expected: number): true {
+    this.distError = error;
+    this.distExpected = expected;
+    return true;
   }
 
   /** In a gap, or holding a report from before a gap that has ended since: no data either way. */
@@ -189,11 +225,10 @@ export class AngleTrackJudge {
       if (started && (this.seenIndex < 0 || (this.gaps.length > 0 && this.noDataAt(a, this.seenT[this.seenIndex])))) p.noData = true;
       else if (started) {
         const seen = this.seenAngle[this.seenIndex];
-        const d = this.distance(a, seen);
-        if (d && d.error > this.toleranceDeg) {
+        if (this.distance(a, seen) && this.distError > this.toleranceDeg) {
           p.bad = true;
-          p.error = d.error;
-          p.expected = d.expected;
+          p.error = this.distError;
+          p.expected = this.distExpected;
           p.seen = this.track.wrap ? ((seen % 360) + 360) % 360 : seen;
         }
       }
