@@ -12,6 +12,10 @@ export const API_ERROR_CODES = [
   "forbidden",
   "not_found",
   "conflict",
+  /** A share link its workshop revoked (410). */
+  "revoked",
+  /** A share link past its expiry (410). */
+  "expired",
   "too_large",
   "internal",
   "unavailable",
@@ -42,6 +46,8 @@ export const STATUS_FOR_CODE: Record<ApiErrorCode, number> = {
   forbidden: 403,
   not_found: 404,
   conflict: 409,
+  revoked: 410,
+  expired: 410,
   too_large: 413,
   internal: 500,
   unavailable: 503,
