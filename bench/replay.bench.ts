@@ -9,11 +9,16 @@ import { ArrayFrameSource } from "../shared/replay/frame-source";
 import { Player } from "../shared/replay/player";
 import { performanceClock } from "../shared/replay/virtual-clock";
 import { ReplayScheduler } from "../server/bench/scheduler";
+import { RunJudge } from "../shared/compare/judge";
+import type { Tolerances } from "../shared/compare/types";
+import type { ExpectedTimelines } from "../shared/expect/types";
+import { LinkStreamDecoder } from "../shared/link/stream";
 import type { BenchReport, BenchRow } from "./harness";
 
 const CHANNELS = 500;
 const RATE_HZ = 60;
 const LINKS = 20;
+// Panels on every link answer each update and the bench judges the answers live (the comparator in the loop).
 const WALL_SECONDS = Number(process.env.BENCH_REPLAY_SECONDS ?? 6);
 
 /** A recording where about a tenth of 500 channels change each 60 Hz frame (a busy cockpit). */
@@ -35,15 +40,75 @@ function toWire(frame: Frame, index: Map<string, number>, sequence: number): Buf
   return packValueUpdates(values, { keyframe: false }).map((message) => Buffer.from(encodeLinkFrame({ address: 0, sequence: sequence & 0xff, message })));
 }
 
-async function withClients<T>(work: (send: (bytes: Buffer) => void, received: () => number) => Promise<T>): Promise<T> {
+/** Elements per emulated panel, and how many of them a panel reports after each update. */
+const PANEL_ELEMENTS = 40;
+const REPORTED_PER_UPDATE = 8;
+
+/** What every link's panel should show: 40 lamps, lit from the start (the judges' work, not the behaviours'). */
+function panelTimelines(): ExpectedTimelines {
+  return {
+    panelId: "bench",
+    startMs: 0,
+    endMs: 3_600_000,
+    elements: Array.from({ length: PANEL_ELEMENTS }, (_, i) => ({ id: `lamp-${i}`, kind: "lamp" as const, label: `Lamp ${i}`, placeholder: false, tracks: { lamp: [{ t: 0, shows: { state: "on" as const, level: 255 } }] } })),
+  };
+}
+
+/** A panel's answer to an update: a seen report of a few elements (rotating), pre-encoded as a board would send it. */
+function seenReports(): Buffer[] {
+  const out: Buffer[] = [];
+  for (let k = 0; k < PANEL_ELEMENTS / REPORTED_PER_UPDATE; k++) {
+    const seen = Array.from({ length: REPORTED_PER_UPDATE }, (_, j) => ({ element: k * REPORTED_PER_UPDATE + j, kind: "lamp_state" as const, state: "on" as const }));
+    out.push(Buffer.from(encodeLinkFrame({ address: 0, sequence: k, message: { type: "seen_report", appliedSequence: null, seen } })));
+  }
+  return out;
+}
+
+/**
+ * 20 WebSocket clients on a local server. With `judging`, each client is a panel that answers
+ * every update with a seen report, and the bench decodes each answer and feeds a live judge per
+ * link, advanced at every frame it sends: the comparator runs in the loop, as in a run.
+ */
+async function withClients<T>(
+  work: (send: (bytes: Buffer) => void, received: () => number, judges: { advance(t: number): void; reports(): number } | null) => Promise<T>,
+  judging = false,
+  answering = judging,
+): Promise<T> {
   const server = new WebSocketServer({ port: 0, host: "127.0.0.1" });
   await new Promise((r) => server.once("listening", r));
   const port = (server.address() as AddressInfo).port;
   let count = 0;
+  let reports = 0;
+  let benchNow = 0;
+  const tol: Tolerances = { degrees: 2, level: 24, period: 0.2, lagBudgetMs: 300 };
+  const linkJudges: RunJudge[] = [];
+  if (judging) {
+    server.on("connection", (socket) => {
+      const judge = new RunJudge(panelTimelines(), () => tol);
+      linkJudges.push(judge);
+      const decoder = new LinkStreamDecoder({ acceptFrom: "device" });
+      socket.on("message", (data) => {
+        const b = data as Buffer;
+        for (const event of decoder.push(new Uint8Array(b.buffer, b.byteOffset, b.length))) {
+          if (!event.ok || event.frame.message.type !== "seen_report") continue;
+          for (const entry of event.frame.message.seen) {
+            if (entry.kind !== "lamp_state") continue;
+            judge.addSeen(`lamp-${entry.element}`, { t: benchNow, shows: { track: "lamp", lamp: entry.state === "off" ? { state: "off" } : { state: "on", level: 255 } } });
+            reports++;
+          }
+        }
+      });
+    });
+  }
+  const answers = seenReports();
   const clients = await Promise.all(
     Array.from({ length: LINKS }, () => new Promise<WebSocket>((resolve) => {
       const ws = new WebSocket(`ws://127.0.0.1:${port}`);
-      ws.on("message", () => count++);
+      let next = 0;
+      ws.on("message", () => {
+        count++;
+        if (answering) ws.send(answers[next++ % answers.length]);
+      });
       ws.once("open", () => resolve(ws));
     })),
   );
@@ -51,8 +116,17 @@ async function withClients<T>(work: (send: (bytes: Buffer) => void, received: ()
   const send = (bytes: Buffer) => {
     for (const c of server.clients) c.send(bytes);
   };
+  const judges = judging
+    ? {
+        advance(t: number) {
+          benchNow = t;
+          for (const j of linkJudges) j.advance(t);
+        },
+        reports: () => reports,
+      }
+    : null;
   try {
-    return await work(send, () => count);
+    return await work(send, () => count, judges);
   } finally {
     clients.forEach((c) => c.terminate());
     await new Promise((r) => server.close(r));
@@ -60,7 +134,7 @@ async function withClients<T>(work: (send: (bytes: Buffer) => void, received: ()
 }
 
 async function replayAt(speed: number, frames: Frame[], index: Map<string, number>) {
-  return withClients(async (send, received) => {
+  return withClients(async (send, received, judges) => {
     const lateness: number[] = [];
     let sequence = 0;
     let messages = 0;
@@ -73,6 +147,7 @@ async function replayAt(speed: number, frames: Frame[], index: Map<string, numbe
         }
         // Lateness as a link sees it: from when the frame fell due to when its bytes were handed to the sockets.
         lateness.push(performance.now() - due);
+        judges?.advance(frame.t);
       },
       keyframe() {},
     });
@@ -97,11 +172,15 @@ async function replayAt(speed: number, frames: Frame[], index: Map<string, numbe
       cpuShare: (cpu.user + cpu.system) / 1000 / wallMs,
       delivered: received() / Math.max(1, expected),
       frames: lateness.length,
+      judged: judges?.reports() ?? 0,
     };
-  });
+  }, true);
 }
 
-/** The most messages per second this machine pushes to the same 20 sockets, with the bytes pre-encoded. */
+/**
+ * The most messages per second this machine pushes to the same 20 sockets, with the bytes
+ * pre-encoded; the clients answer as in the replay path, and nobody reads the answers.
+ */
 async function bareBroadcastRate(wire: Buffer[]) {
   return withClients(async (send, received) => {
     const t0 = performance.now();
@@ -109,12 +188,15 @@ async function bareBroadcastRate(wire: Buffer[]) {
     const expected = wire.length * LINKS;
     while (received() < expected) await new Promise((r) => setImmediate(r));
     return wire.length / ((performance.now() - t0) / 1000);
-  });
+  }, false, true);
 }
 
-/** The whole replay path (player, coalescing, link encoding, sockets) as fast as it goes: 16x with a 0 ms wake. */
+/**
+ * The whole replay path (player, coalescing, link encoding, sockets, panels answering, live
+ * judging) as fast as it goes: a virtual wall clock jumped to each next frame.
+ */
 async function replayPathRate(frames: Frame[], index: Map<string, number>) {
-  return withClients(async (send, received) => {
+  return withClients(async (send, received, judges) => {
     let messages = 0;
     let sequence = 0;
     const wall = { t: 0, now() { return this.t; } };
@@ -124,6 +206,7 @@ async function replayPathRate(frames: Frame[], index: Map<string, number>) {
           send(bytes);
           messages++;
         }
+        judges?.advance(frame.t);
       },
       keyframe() {},
     });
@@ -135,7 +218,7 @@ async function replayPathRate(frames: Frame[], index: Map<string, number>) {
     }
     while (received() < messages * LINKS) await new Promise((r) => setImmediate(r));
     return messages / ((performance.now() - t0) / 1000);
-  });
+  }, true);
 }
 
 export async function run(): Promise<BenchReport> {
@@ -148,7 +231,7 @@ export async function run(): Promise<BenchReport> {
       { metric: `lateness p50 at ${speed}x (${CHANNELS} channels, ${RATE_HZ} Hz, ${LINKS} WebSocket links)`, value: r.p50, unit: "ms" },
       { metric: `lateness p99 at ${speed}x`, value: r.p99, unit: "ms", target: speed === 1 ? "< 4 ms" : undefined, met: speed === 1 ? r.p99 < 4 : undefined },
       { metric: `lateness max at ${speed}x`, value: r.max, unit: "ms" },
-      { metric: `CPU used at ${speed}x`, value: r.cpuShare * 100, unit: "% of one core", note: `${r.frames} sends, ${(r.delivered * 100).toFixed(1)}% delivered` },
+      { metric: `CPU used at ${speed}x`, value: r.cpuShare * 100, unit: "% of one core", note: `${r.frames} sends, ${(r.delivered * 100).toFixed(1)}% delivered, ${r.judged.toLocaleString("en")} seen reports judged live` },
     );
   }
   const frames = makeFrames(20_000);
@@ -156,7 +239,7 @@ export async function run(): Promise<BenchReport> {
   const bare = await bareBroadcastRate(wire);
   const path = await replayPathRate(frames, index);
   rows.push({
-    metric: "replay path throughput (player + encoding + sockets)",
+    metric: "replay path throughput (player + encoding + sockets + panels answering + live judging)",
     value: path,
     unit: "messages/s",
     baseline: bare,
