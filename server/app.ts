@@ -13,6 +13,8 @@ import { capturesRouter } from "./routes/captures";
 import { recordingsRouter } from "./routes/recordings";
 import { panelsRouter } from "./routes/panels";
 import { runsRouter, sharedRouter } from "./routes/runs";
+import { runReportsRouter } from "./routes/run-reports";
+import { benchRouter } from "./routes/bench";
 
 export interface AppOptions {
   /** Folder with the built client; served with a fallback to index.html for client routes. */
@@ -58,7 +60,9 @@ export function createApp(services: Services, options: AppOptions) {
   app.use("/api/workshops", capturesRouter(services));
   app.use("/api/workshops", panelsRouter(services));
   app.use("/api/workshops", runsRouter(services));
+  app.use("/api/workshops", benchRouter(services));
   app.use("/api/shared", sharedRouter(services));
+  app.use("/api", runReportsRouter(services));
   app.use("/api/invitations", invitationsRouter(services));
   app.use("/api/outbox", outboxRouter(services));
   app.use("/api", unknownApiRoute);

@@ -98,6 +98,7 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     captures,
     runs,
     maxUploadBytes: env.MAX_UPLOAD_BYTES,
+    mailer,
   };
   handle = createApp(services, { clientDir: env.CLIENT_DIR, trustedOrigins, behindProxy: env.BEHIND_PROXY === "true" });
 

@@ -33,7 +33,9 @@ const PanelScale = lazy(() => import("./routes/PanelScale").then((m) => ({ defau
 const Runs = lazy(() => import("./routes/Runs").then((m) => ({ default: m.Runs })));
 const RunSetup = lazy(() => import("./routes/RunSetup").then((m) => ({ default: m.RunSetup })));
 const RunConsole = lazy(() => import("./routes/RunConsole").then((m) => ({ default: m.RunConsole })));
+const VirtualPanelWindow = lazy(() => import("./routes/VirtualPanelWindow").then((m) => ({ default: m.VirtualPanelWindow })));
 const RunReport = lazy(() => import("./routes/RunReport").then((m) => ({ default: m.RunReport })));
+const RunCompare = lazy(() => import("./routes/RunCompare").then((m) => ({ default: m.RunCompare })));
 const SharedReport = lazy(() => import("./routes/SharedReport").then((m) => ({ default: m.SharedReport })));
 const later = (screen: ReactNode) => <Suspense fallback={<Loading what="Opening" />}>{screen}</Suspense>;
 
@@ -73,7 +75,9 @@ const router = createBrowserRouter([
           { path: "runs", element: later(<Runs />) },
           { path: "runs/new", element: later(<RunSetup />) },
           { path: "runs/:runId", element: later(<RunConsole />) },
+          { path: "runs/:runId/panels/:panelId/virtual", element: later(<VirtualPanelWindow />) },
           { path: "runs/:runId/report", element: later(<RunReport />) },
+          { path: "runs/:runId/compare/:otherRunId", element: later(<RunCompare />) },
         ],
       },
     ],

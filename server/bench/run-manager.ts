@@ -4,7 +4,7 @@ import type { Duplex } from "node:stream";
 import { and, eq, inArray, isNull, lt, or } from "drizzle-orm";
 import { WebSocketServer, type WebSocket } from "ws";
 import { fromNodeHeaders } from "better-auth/node";
-import { watcherMessage, type WatcherMessage } from "../../shared/api/runs";
+import { runChecks, watcherMessage, type WatcherMessage } from "../../shared/api/runs";
 import { isWorkshopRole } from "../../shared/workshop/roles";
 import type { Auth } from "../auth/auth";
 import type { Database } from "../db/client";
@@ -228,9 +228,13 @@ export class RunManager {
           positionMs: view?.positionMs ?? row.positionMs,
           speed: view?.speed ?? row.speed,
           durationMs: view?.durationMs ?? row.durationMs,
+          loop: view?.loop ?? null,
         };
         ws.send(JSON.stringify(watcherMessage.parse(first)));
         for (const link of view?.links ?? []) ws.send(JSON.stringify(watcherMessage.parse({ type: "link", link })));
+        // The checks as they stand: the live set-up check from the session, else what was stored.
+        const checks = session ? session.checksView() : { ...runChecks.parse(row.checks ?? {}), setup: null };
+        ws.send(JSON.stringify(watcherMessage.parse({ type: "checks", checks })));
       });
     } catch (error) {
       console.error("[bench] watcher upgrade failed:", error);

@@ -1,7 +1,12 @@
 import { eq } from "drizzle-orm";
 import type { WebSocket } from "ws";
-import type { RUN_STATES, WatcherMessage } from "../../shared/api/runs";
+import { runChecks, type ChecksView, type CheckpointView, type InputWalkView, type ObservationAnswer, type ObservationTarget, type RUN_STATES, type RunChecks, type SetupCheckView, type SetupItem, type WatcherMessage } from "../../shared/api/runs";
 import { seenFromLink, inputFromLink } from "../../shared/compare/from-link";
+import { InputWalk, walkSteps, type WalkSnapshot } from "../../shared/compare/input-walk";
+import { observationCheckpoints } from "../../shared/compare/observations";
+import { setupCheck } from "../../shared/compare/setup-check";
+import { BREAKER_POSITIONS } from "../../shared/link/protocol";
+import type { InputEntry } from "../../shared/link/messages";
 import { RunJudge, tolerancesOf } from "../../shared/compare/judge";
 import type { ElementStatus, LinkGap, Mismatch, Tolerances } from "../../shared/compare/types";
 import type { Element } from "../../shared/elements/kinds";
@@ -57,12 +62,42 @@ interface SessionPanel {
   buffer: SeenRecord[];
   bufferFrom: number;
   lastT: Map<string, number>;
+  /** What each element last said it shows: carried into a new pass at a cut (panels report changes only). */
+  lastShown: Map<string, SeenRecord["sample"]["shows"]>;
   advancedTo: number;
   status: StoredLinkStatus;
   /** Recording time when the link dropped (or the run started without it); null while connected. */
   downSince: number | null;
   liveMismatches: number;
   failing: Set<string>;
+  /** Where each switch, lever, breaker or button last said it is: an input event wins over a seen report. */
+  positions: Map<string, { position: string; via: "input" | "seen" }>;
+}
+
+/**
+ * A control the session refuses in its present situation (409): the set-up check differs, the
+ * input walk is asking, the player is playing. `differences` lists what the set-up check found.
+ */
+export class RunConflict extends Error {
+  constructor(
+    readonly code: "setup_mismatch" | "walk_running" | "conflict",
+    message: string,
+    readonly differences: SetupItem[] = [],
+  ) {
+    super(message);
+  }
+}
+
+/** Where an input event says an element now rests, in the words the checks use; null for what has no position. */
+export function inputPositionOf(elements: readonly Element[], entry: InputEntry): { elementId: string; position: string } | null {
+  const el = elements[entry.element];
+  if (!el) return null;
+  if (entry.kind === "position") {
+    if (el.kind === "switch" || el.kind === "lever") return el.positions[entry.position] === undefined ? null : { elementId: el.id, position: el.positions[entry.position] };
+    if (el.kind === "breaker") return BREAKER_POSITIONS[entry.position] === undefined ? null : { elementId: el.id, position: BREAKER_POSITIONS[entry.position] };
+  }
+  if (entry.kind === "button" && el.kind === "button") return { elementId: el.id, position: entry.pressed ? "pressed" : "released" };
+  return null;
 }
 
 export interface SessionDeps {
@@ -102,6 +137,15 @@ export class RunSession {
   private closing = false;
   private lastPlayerBroadcast = 0;
   private readonly tolerance: Partial<Tolerances>;
+  /** Set-up check overrides, input walk, observation checkpoints: run.checks. */
+  private checks: RunChecks;
+  /** The set-up check asks before the first play of a session only. */
+  private hasPlayed = false;
+  private walk: InputWalk | null = null;
+  private checkpointTimer: NodeJS.Timeout | null = null;
+  /** The player paused itself at an observation checkpoint: an answer plays on. */
+  private pausedForCheckpoint = false;
+  private lastSetupKey = "";
 
   private constructor(
     private readonly deps: SessionDeps,
@@ -139,15 +183,20 @@ export class RunSession {
         buffer: [],
         bufferFrom: 0,
         lastT: new Map(),
+        lastShown: new Map(),
         advancedTo: this.fromMs,
         status,
         downSince: null,
         liveMismatches: 0,
         failing: new Set(),
+        positions: new Map(),
       };
       panel.link = this.makeLink(panel, linkInput);
       this.panels.push(panel);
     }
+    this.checks = runChecks.parse(row.checks ?? {});
+    this.checks.asking = null; // a question left open by an earlier session is asked again when play crosses it
+    this.planCheckpoints();
     this.player = new Player(source, performanceClock, {
       frame: (frame) => this.sendFrame(frame),
       keyframe: (t, state) => this.sendKeyframe(t, state),
@@ -229,6 +278,8 @@ export class RunSession {
     }
     this.lastSent = t;
     for (const p of this.panels) p.link.update(p.map.valuesOf(state, true), true);
+    // A seek or a loop restart moved the clock: the next checkpoint is due at another wall time.
+    queueMicrotask(() => this.armCheckpoint());
   }
 
   /**
@@ -275,12 +326,23 @@ export class RunSession {
       case "seen_report":
         for (const entry of m.seen) {
           const r = seenFromLink(panel.elements, entry, t);
-          if (r.ok) this.record(panel, r.elementId, r.sample);
-          else this.countFault(panel, r.reason, r.detail);
+          if (r.ok) {
+            this.record(panel, r.elementId, r.sample);
+            const shows = r.sample.shows;
+            if (shows.track === "position") this.notePosition(panel, r.elementId, shows.position, "seen");
+            if (shows.track === "breaker") this.notePosition(panel, r.elementId, shows.breaker, "seen");
+          } else this.countFault(panel, r.reason, r.detail);
         }
         break;
       case "input_event":
         for (const entry of m.inputs) {
+          const moved = inputPositionOf(panel.elements, entry);
+          if (moved) this.notePosition(panel, moved.elementId, moved.position, "input");
+          // While the input walk asks, inputs answer it: the hand is following prompts, not the recording.
+          if (this.walk?.state === "running") {
+            if (moved) this.walk.input({ panelId: panel.snapshot.panelId, elementId: moved.elementId, position: moved.position });
+            continue;
+          }
           const r = inputFromLink(panel.elements, entry, t);
           if (r.ok) this.record(panel, r.elementId, r.sample);
           else if (r.reason !== "wrong_kind") this.countFault(panel, r.reason, r.detail);
@@ -300,6 +362,7 @@ export class RunSession {
   private record(panel: SessionPanel, elementId: string, sample: SeenRecord["sample"]) {
     const t = Math.max(sample.t, panel.lastT.get(elementId) ?? -Infinity, panel.advancedTo);
     panel.lastT.set(elementId, t);
+    panel.lastShown.set(elementId, sample.shows);
     const s = { t, shows: sample.shows };
     if (panel.buffer.length === 0) panel.bufferFrom = t;
     panel.buffer.push({ elementId, sample: s });
@@ -342,7 +405,169 @@ export class RunSession {
       p.liveMismatches = 0;
       p.failing.clear();
       if (p.downSince !== null) p.downSince = atMs;
+      // A panel reports what changes, not what stays: what a lamp, readout, breaker or switch
+      // showed when the pass was cut, it still shows at the cut instant until it says otherwise
+      // (after the keyframe). Not a needle's angle: it is judged against a window with no grace
+      // at the pass's start, and a needle reports again as soon as it moves.
+      if (p.downSince === null) for (const [elementId, shows] of [...p.lastShown]) if (shows.track !== "angle") this.record(p, elementId, { t: atMs, shows });
     }
+  }
+
+  // ---- checks beside the replay: set-up check, input walk, observations ------------------
+
+  private notePosition(panel: SessionPanel, elementId: string, position: string, via: "input" | "seen") {
+    const known = panel.positions.get(elementId);
+    if (via === "seen" && known?.via === "input") return;
+    if (known?.position === position && known.via === via) return;
+    panel.positions.set(elementId, { position, via });
+    // Before the first play the console shows the set-up check live.
+    if (!this.hasPlayed) this.broadcastChecksIfSetupChanged();
+  }
+
+  /** The set-up check now: switches, levers and breakers against the recording where play starts. */
+  setupView(): SetupCheckView {
+    const atMs = this.position();
+    const differences: SetupItem[] = [];
+    const unreported: SetupItem[] = [];
+    for (const p of this.panels) {
+      const c = setupCheck(p.elements, p.timelines, atMs, (id) => p.positions.get(id)?.position ?? null);
+      differences.push(...c.differences.map((d) => ({ panelId: p.snapshot.panelId, ...d })));
+      unreported.push(...c.unreported.map((d) => ({ panelId: p.snapshot.panelId, ...d })));
+    }
+    return { atMs, applies: !this.hasPlayed, differences, unreported };
+  }
+
+  checksView(): ChecksView {
+    return { ...structuredClone(this.checks), setup: this.setupView() };
+  }
+
+  private broadcastChecks() {
+    this.deps.broadcast(this.runId, { type: "checks", checks: this.checksView() });
+  }
+
+  private broadcastChecksIfSetupChanged() {
+    const setup = this.setupView();
+    const key = JSON.stringify([setup.differences, setup.unreported.length, setup.applies]);
+    if (key === this.lastSetupKey) return;
+    this.lastSetupKey = key;
+    this.broadcastChecks();
+  }
+
+  private persistChecks() {
+    if (this.closing) return;
+    const checks = structuredClone(this.checks);
+    this.chain(() => this.deps.db.update(run).set({ checks }).where(eq(run.id, this.runId)).then(() => undefined));
+  }
+
+  /** Checkpoints for the observed elements, chosen again; answers already given are kept. */
+  private planCheckpoints() {
+    const plans = observationCheckpoints(
+      this.panels.map((p) => ({ panelId: p.snapshot.panelId, elements: p.elements, timelines: p.timelines })),
+      this.checks.observed,
+      { fromMs: this.fromMs, endMs: this.endMs },
+    );
+    const old = new Map(this.checks.checkpoints.map((c) => [c.id, c]));
+    this.checks.checkpoints = plans.map((c): CheckpointView => ({ ...c, answer: old.get(c.id)?.answer ?? null, answeredAt: old.get(c.id)?.answeredAt ?? null }));
+    if (this.checks.asking && !old.has(this.checks.asking)) this.checks.asking = null;
+  }
+
+  /** Marks the elements watched by eye (replacing the list). */
+  observe(targets: ObservationTarget[]) {
+    targets.forEach((t, i) => {
+      const p = this.panels.find((x) => x.snapshot.panelId === t.panelId);
+      if (!p) throw new RangeError(`body.elements.${i}.panelId: this panel is not part of the run`);
+      const el = p.byId.get(t.elementId);
+      if (!el) throw new RangeError(`body.elements.${i}.elementId: the panel has no element "${t.elementId}"`);
+      if (el.placeholder || el.kind === "encoder") throw new RangeError(`body.elements.${i}.elementId: ${el.label} shows nothing to observe`);
+    });
+    const seen = new Set<string>();
+    this.checks.observed = targets.filter((t) => !seen.has(`${t.panelId}/${t.elementId}`) && !!seen.add(`${t.panelId}/${t.elementId}`));
+    this.planCheckpoints();
+    this.persistChecks();
+    this.broadcastChecks();
+    this.armCheckpoint();
+  }
+
+  /** Records the builder's answer; when the player paused for this question, play goes on. */
+  answer(checkpointId: string, answer: ObservationAnswer) {
+    const c = this.checks.checkpoints.find((x) => x.id === checkpointId);
+    if (!c) throw new RangeError(`body.checkpointId: no checkpoint "${checkpointId}" in this run`);
+    c.answer = answer;
+    c.answeredAt = new Date().toISOString();
+    const wasAsked = this.checks.asking === checkpointId;
+    if (wasAsked) this.checks.asking = null;
+    this.persistChecks();
+    this.broadcastChecks();
+    if (wasAsked && this.pausedForCheckpoint && this.state === "paused") {
+      this.pausedForCheckpoint = false;
+      this.play();
+    }
+  }
+
+  private clearCheckpointTimer() {
+    if (this.checkpointTimer) clearTimeout(this.checkpointTimer);
+    this.checkpointTimer = null;
+  }
+
+  /** Sets a timer for the next unanswered checkpoint ahead of the position, while playing. */
+  private armCheckpoint() {
+    this.clearCheckpointTimer();
+    if (this.state !== "playing" || this.closing) return;
+    const now = this.recordingNow();
+    const next = this.checks.checkpoints.find((c) => c.answer === null && c.atMs >= now);
+    if (!next) return;
+    const delay = Math.max(0, this.player.clock.wallDelayUntil(next.atMs));
+    if (!Number.isFinite(delay)) return;
+    this.checkpointTimer = setTimeout(() => this.reachCheckpoint(next.id), delay);
+  }
+
+  private reachCheckpoint(id: string) {
+    this.checkpointTimer = null;
+    if (this.state !== "playing" || this.closing) return;
+    const c = this.checks.checkpoints.find((x) => x.id === id);
+    if (!c || c.answer !== null) return this.armCheckpoint();
+    this.pause();
+    this.pausedForCheckpoint = true;
+    this.checks.asking = c.id;
+    this.persistChecks();
+    this.broadcastChecks();
+  }
+
+  /** Starts the input walk over every input position of the run's panels (never while playing). */
+  startWalk(timeoutSec: number) {
+    if (this.state === "playing") throw new RunConflict("conflict", "Pause the run first: the input walk asks for inputs the recording would also move.");
+    if (this.walk?.state === "running") throw new RunConflict("walk_running", "The input walk is already asking.");
+    const steps = walkSteps(
+      this.panels.map((p) => ({ panelId: p.snapshot.panelId, elements: p.elements })),
+      (panelId, elementId) => this.panels.find((p) => p.snapshot.panelId === panelId)?.positions.get(elementId)?.position,
+    );
+    const startedAt = new Date().toISOString();
+    const view = (snap: WalkSnapshot): InputWalkView => ({
+      state: snap.state,
+      timeoutSec,
+      startedAt,
+      finishedAt: snap.state === "running" ? null : new Date().toISOString(),
+      current: snap.current,
+      steps: snap.steps,
+    });
+    this.walk = new InputWalk(steps, {
+      timeoutMs: timeoutSec * 1000,
+      onChange: (snap) => {
+        this.checks.walk = view(snap);
+        this.persistChecks();
+        this.broadcastChecks();
+      },
+    });
+  }
+
+  skipWalkStep() {
+    if (this.walk?.state !== "running") throw new RunConflict("conflict", "No input walk is asking.");
+    this.walk.skip();
+  }
+
+  cancelWalk() {
+    if (this.walk?.state !== "running") throw new RunConflict("conflict", "No input walk is asking.");
+    this.walk.cancel();
   }
 
   // ---- live judging and watchers -------------------------------------------------------
@@ -377,7 +602,7 @@ export class RunSession {
 
   private broadcastPlayer() {
     this.lastPlayerBroadcast = performance.now();
-    this.deps.broadcast(this.runId, { type: "player", state: this.state, positionMs: this.position(), speed: this.player.clock.speed, durationMs: this.endMs });
+    this.deps.broadcast(this.runId, { type: "player", state: this.state, positionMs: this.position(), speed: this.player.clock.speed, durationMs: this.endMs, loop: this.loop });
   }
 
   private broadcastLink(p: SessionPanel) {
@@ -397,7 +622,7 @@ export class RunSession {
   }
 
   view() {
-    return { state: this.state, positionMs: this.position(), speed: this.player.clock.speed, durationMs: this.endMs, links: this.panels.map((p) => this.linkView(p)) };
+    return { state: this.state, positionMs: this.position(), speed: this.player.clock.speed, durationMs: this.endMs, loop: this.loop, links: this.panels.map((p) => this.linkView(p)) };
   }
 
   /** Attaches a panel's WebSocket (virtual or network link); false when the run has no such link. */
@@ -424,8 +649,30 @@ export class RunSession {
     this.state = s === "idle" || s === "loading" ? "ready" : s;
   }
 
-  play() {
+  /**
+   * Plays. Before the first play of a session the set-up check must agree (or `override`,
+   * which is kept in run.checks with what differed); never while the input walk asks.
+   */
+  play(options: { override?: boolean; by?: string | null } = {}) {
     if (this.state === "playing") return;
+    if (this.walk?.state === "running") throw new RunConflict("walk_running", "The input walk is still asking: finish or cancel it before playing.");
+    if (!this.hasPlayed) {
+      const setup = this.setupView();
+      if (setup.differences.length > 0) {
+        if (!options.override) {
+          throw new RunConflict("setup_mismatch", `Set-up check: ${setup.differences.map((d) => d.sentence).join("; ")}. Set them as the recording starts, or play anyway with override.`, setup.differences);
+        }
+        this.checks.setupOverrides.push({ at: new Date().toISOString(), by: options.by ?? null, atMs: setup.atMs, differences: setup.differences });
+        this.persistChecks();
+      }
+    }
+    this.hasPlayed = true;
+    // Playing on while a question is open leaves it unanswered.
+    this.pausedForCheckpoint = false;
+    if (this.checks.asking) {
+      this.checks.asking = null;
+      this.persistChecks();
+    }
     const wasReady = this.state === "ready";
     // Links not connected at the start have no data from the start.
     if (wasReady) for (const p of this.panels) if (p.downSince !== null) p.downSince = this.recordingNow();
@@ -434,9 +681,13 @@ export class RunSession {
     this.scheduler.kick();
     this.persist();
     this.broadcastPlayer();
+    this.armCheckpoint();
+    this.broadcastChecks();
   }
 
   pause() {
+    this.clearCheckpointTimer();
+    this.pausedForCheckpoint = false;
     this.player.pause();
     this.syncState();
     this.afterTick();
@@ -458,6 +709,9 @@ export class RunSession {
     this.scheduler.kick();
     this.persist();
     this.broadcastPlayer();
+    this.armCheckpoint();
+    // Before the first play, the set-up check compares with the new instant.
+    if (!this.hasPlayed) this.broadcastChecksIfSetupChanged();
   }
 
   setSpeed(speed: number) {
@@ -465,16 +719,25 @@ export class RunSession {
     this.scheduler.kick();
     this.persist();
     this.broadcastPlayer();
+    this.armCheckpoint();
+  }
+
+  /** The loop as set (null: none), to show in the console. */
+  get loop() {
+    return this.player.snapshot.loop;
   }
 
   setLoop(loop: { fromMs: number; toMs: number } | null) {
+    if (loop && (loop.fromMs < this.fromMs || loop.toMs > this.endMs)) throw new RangeError(`the loop must lie within the run (${this.fromMs} to ${this.endMs} ms)`);
     this.player.setLoop(loop);
     this.scheduler.kick();
+    this.broadcastPlayer();
   }
 
   /** Ends the run now ("stop") or at the end ("finished"): judged up to where it got. */
   async finish(_why: "finished" | "stopped"): Promise<void> {
     if (this.closing) return;
+    this.stopChecks();
     this.closing = true;
     const end = this.position();
     this.scheduler.stop();
@@ -510,6 +773,7 @@ export class RunSession {
   /** The process is going away: keep what arrived, mark the run interrupted (play resumes it). */
   async interrupt(): Promise<void> {
     if (this.closing) return;
+    this.stopChecks();
     this.closing = true;
     this.scheduler.stop();
     this.player.pause();
@@ -531,6 +795,14 @@ export class RunSession {
     await this.writes;
     this.broadcastPlayer();
     this.deps.onClosed(this.runId);
+  }
+
+  /** The session is closing: no more questions; an open walk ends cancelled (and is saved so). */
+  private stopChecks() {
+    this.clearCheckpointTimer();
+    if (this.walk?.state === "running") this.walk.cancel();
+    this.checks.asking = null;
+    this.persistChecks();
   }
 
   private async closeLinks() {

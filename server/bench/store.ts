@@ -1,6 +1,8 @@
 import { and, asc, eq, sql } from "drizzle-orm";
 import type { ElementStatus, Mismatch, Tolerances } from "../../shared/compare/types";
 import { judgeOffline, tolerancesOf, type RunJudgement } from "../../shared/compare/judge";
+import { applyObservations } from "../../shared/compare/observations";
+import { runChecks } from "../../shared/api/runs";
 import { summarizeLags } from "../../shared/compare/statistics";
 import { expectTimelines } from "../../shared/expect/engine";
 import type { ChannelDefinition } from "../../shared/recording/channels";
@@ -55,6 +57,7 @@ export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<To
   // Judged up to where the run got (a stopped or interrupted run is not judged beyond it).
   const endMs = Math.max(fromMs, Math.min(row.positionMs, row.segment?.toMs ?? rec.durationMs, rec.durationMs));
   const out: PanelJudgement[] = [];
+  const checks = runChecks.parse(row.checks ?? {});
   for (const p of row.panels) {
     const def = p.definition;
     const full = expectTimelines(def, rec.frames, { endMs: rec.durationMs });
@@ -64,7 +67,14 @@ export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<To
     const status = row.linkStatus.find((l) => l.panelId === p.panelId);
     const ids = def.elements.map((e) => e.id);
     const gaps = (status?.gaps ?? []).map((gap) => ({ elementIds: ids, gap }));
-    const judgement = judgeOffline(timelines, seen, gaps, (id) => tolerancesOf(byId.get(id), tolerance));
+    // The builder's observation answers join the link's judgement (docs/judging.md, "Observations").
+    const judgement = applyObservations(
+      judgeOffline(timelines, seen, gaps, (id) => tolerancesOf(byId.get(id), tolerance)),
+      p.panelId,
+      def.elements,
+      checks.observed,
+      checks.checkpoints,
+    );
     out.push({ panelId: p.panelId, ordinals: new Map(ids.map((id, i) => [id, i])), judgement });
   }
   return out;

@@ -1,5 +1,5 @@
 import { bigint, doublePrecision, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uniqueIndex } from "drizzle-orm/pg-core";
-import type { RUN_STATES, RunLinkInput } from "../../shared/api/runs";
+import type { RUN_STATES, RunLinkInput, StoredRunChecks } from "../../shared/api/runs";
 import type { ElementStatus } from "../../shared/compare/types";
 import type { LagSummary } from "../../shared/compare/statistics";
 import type { Tolerances } from "../../shared/compare/types";
@@ -56,7 +56,7 @@ export const run = pgTable(
     /** Backward seeks and loop restarts: reports of an earlier pass from `atMs` on no longer count. */
     cuts: jsonb("cuts").$type<{ epoch: number; atMs: number }[]>().notNull(),
     /** What the builder did beside the replay: set-up check overrides, input walk, observations (shared/api/runs.ts). */
-    checks: jsonb("checks").$type<Record<string, unknown>>().notNull().default({}),
+    checks: jsonb("checks").$type<StoredRunChecks>().notNull().default({}),
     /** Which server process holds the run's session, and when it last said so (interrupted detection). */
     heldBy: text("held_by"),
     aliveAt: timestamp("alive_at", { withTimezone: true }),

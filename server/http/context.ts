@@ -11,6 +11,7 @@ import type { StorageDriver } from "../storage";
 import type { Jobs } from "../jobs/queue";
 import type { CaptureManager } from "../capture/manager";
 import type { RunManager } from "../bench/run-manager";
+import type { Mailer } from "../mail/mailer";
 import { notFound, unauthenticated } from "./errors";
 
 export interface Services {
@@ -34,6 +35,8 @@ export interface Services {
   runs: RunManager;
   /** Largest upload in bytes (also the largest unpacked size of a gzip upload). */
   maxUploadBytes: number;
+  /** Outgoing mail (e-mailed run reports); the fake SMTP server in development and tests. */
+  mailer: Mailer;
 }
 
 export function authHeaders(req: Request): Headers {

@@ -11,4 +11,8 @@ export const runPolicy = {
   control: (m: Membership) => roleCan(m.role, "bench.write"),
   drive: (m: Membership) => roleCan(m.role, "bench.write"),
   rejudge: (m: Membership) => roleCan(m.role, "bench.write"),
+  /** Compare two runs, read history, expected states and a pointer's traces: like reading a report. */
+  compare: (m: Membership) => roleCan(m.role, "bench.read"),
+  /** E-mail a report (to members or any address): builders and owners, as for share links. */
+  email: (m: Membership) => roleCan(m.role, "bench.write"),
 };

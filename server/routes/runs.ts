@@ -5,8 +5,11 @@ import { z } from "zod";
 import {
   createRunBody,
   createShareBody,
+  linkFaultsBody,
   mismatchesQuery,
   rejudgeBody,
+  runChecks,
+  runChecksBody,
   runControlBody,
   type RunDetail,
 } from "../../shared/api/runs";
@@ -20,11 +23,13 @@ import { authorize } from "../policies/actor";
 import { runPolicy } from "../policies/run";
 import { sharePolicy } from "../policies/share";
 import { detailOf, exportOf, junitOf, mismatchRowsOf, summaryOf } from "../bench/report";
+import { RunConflict, type RunSession } from "../bench/run-session";
 import { EMPTY_COUNTS, judgeStored, storeJudgement } from "../bench/store";
 
 const workshopParams = z.object({ workshopId: entityId });
 const runParams = z.object({ workshopId: entityId, runId: entityId });
 const shareParams = z.object({ workshopId: entityId, runId: entityId, shareId: entityId });
+const linkParams = z.object({ workshopId: entityId, runId: entityId, panelId: entityId });
 const listQuery = z.object({ panelId: entityId.optional(), recordingId: entityId.optional() }).strict();
 
 /** SHA-256 of a share token, hex: what the database keeps instead of the token. */
@@ -33,6 +38,19 @@ export function hashShareToken(token: string): string {
 }
 
 const invalid = (path: string, message: string) => new HttpError("validation_failed", `${path}: ${message}`, [{ path, message }]);
+
+/** The elements watched by eye at set-up, each checked against its panel's definition (422 naming the field). */
+function observedOf(body: z.infer<typeof createRunBody>, snapshots: RunPanelSnapshot[]) {
+  const list = body.observed ?? [];
+  list.forEach((o, i) => {
+    const p = snapshots.find((s) => s.panelId === o.panelId);
+    if (!p) throw invalid(`body.observed.${i}.panelId`, "this panel is not linked in this run");
+    const el = p.definition.elements.find((e) => e.id === o.elementId);
+    if (!el) throw invalid(`body.observed.${i}.elementId`, `panel "${p.name}" has no element "${o.elementId}"`);
+    if (el.placeholder || el.kind === "encoder") throw invalid(`body.observed.${i}.elementId`, `${el.label} shows nothing to observe`);
+  });
+  return list;
+}
 
 /** Runs under /api/workshops/:workshopId/runs (issues 5 and 6). */
 export function runsRouter(services: Services) {
@@ -47,6 +65,39 @@ export function runsRouter(services: Services) {
     const [row] = await db.select().from(run).where(and(eq(run.id, runId), eq(run.workshopId, workshopId)));
     if (!row) throw notFound("No such run in this workshop.");
     return row;
+  }
+
+  /**
+   * The run as the console reads it: the report's detail plus each link's settings (with a
+   * virtual link's faults as they stand) and the checks (live from the session when held here).
+   */
+  async function consoleDetailOf(row: typeof run.$inferSelect): Promise<RunDetail> {
+    const session = runs.session(row.id);
+    return {
+      ...(await detailOf(db, row, runs)),
+      settings: row.links,
+      checks: session ? session.checksView() : { ...runChecks.parse(row.checks ?? {}), setup: null },
+    };
+  }
+
+  /** The run's session for a change, refusing runs that have finished or another process holds. */
+  async function sessionFor(row: typeof run.$inferSelect): Promise<RunSession> {
+    const state = runs.effectiveState(row);
+    if (state === "finished" || state === "failed") throw new HttpError("conflict", "This run has finished; make a new run to replay it.");
+    if (!runs.session(row.id) && state !== "idle" && state !== "interrupted" && row.heldBy && row.heldBy !== runs.processId) {
+      throw new HttpError("conflict", "Another server process holds this run.");
+    }
+    return runs.ensureSession(row);
+  }
+
+  /** Runs a session change; its refusals become API errors (RangeError: 422 naming the field, RunConflict: 409). */
+  function refusalOf(error: unknown): never {
+    if (error instanceof RangeError) {
+      const [path, ...rest] = error.message.split(": ");
+      const located = path.startsWith("body.") && rest.length > 0;
+      throw new HttpError("validation_failed", error.message, [{ path: located ? path : "body", message: located ? rest.join(": ") : error.message }]);
+    }
+    throw error;
   }
 
   router.get("/:workshopId/runs", async (req, res) => {
@@ -124,23 +175,24 @@ export function runsRouter(services: Services) {
         counts: { ...EMPTY_COUNTS },
         linkStatus: body.links.map((l) => ({ panelId: l.panelId, kind: l.kind, faults: {}, gaps: [] })),
         cuts: [],
+        checks: { observed: observedOf(body, snapshots) },
         createdById: actor.userId,
       })
       .returning();
-    res.status(201).json(await detailOf(db, row, runs));
+    res.status(201).json(await consoleDetailOf(row));
   });
 
   router.get("/:workshopId/runs/:runId", async (req, res) => {
     const { workshopId, runId } = parseParams(req, runParams);
     authorize(runPolicy.read(await member(req, workshopId)), forbidden);
-    const detail: RunDetail = await detailOf(db, await findRun(workshopId, runId), runs);
-    res.json(detail);
+    res.json(await consoleDetailOf(await findRun(workshopId, runId)));
   });
 
   router.post("/:workshopId/runs/:runId/control", async (req, res) => {
     const { workshopId, runId } = parseParams(req, runParams);
     authorize(runPolicy.control(await member(req, workshopId)), forbidden);
     const body = parseBody(req, runControlBody);
+    const actor = await requireActor(services, req);
     const row = await findRun(workshopId, runId);
     const state = runs.effectiveState(row);
     if (state === "finished" || state === "failed") throw new HttpError("conflict", "This run has finished; make a new run to replay it.");
@@ -152,14 +204,14 @@ export function runsRouter(services: Services) {
       await db.update(run).set({ state: "finished", finishedAt: new Date(), heldBy: null }).where(eq(run.id, runId));
       const [updated] = await db.select().from(run).where(eq(run.id, runId));
       await storeJudgement(db, runId, await judgeStored(db, updated, updated.tolerance));
-      res.json(await detailOf(db, (await db.select().from(run).where(eq(run.id, runId)))[0], runs));
+      res.json(await consoleDetailOf((await db.select().from(run).where(eq(run.id, runId)))[0]));
       return;
     }
     const session = await runs.ensureSession(row);
     try {
       switch (body.action) {
         case "play":
-          session.play();
+          session.play({ override: body.override, by: actor.userId });
           break;
         case "pause":
           session.pause();
@@ -181,11 +233,88 @@ export function runsRouter(services: Services) {
           break;
       }
     } catch (error) {
-      if (error instanceof RangeError) throw new HttpError("validation_failed", error.message, [{ path: "body", message: error.message }]);
-      throw error;
+      if (error instanceof RunConflict) {
+        await session.settle();
+        sendConflict(res, error);
+        return;
+      }
+      refusalOf(error);
     }
     await session.settle();
-    res.json(await detailOf(db, await findRun(workshopId, runId), runs));
+    res.json(await consoleDetailOf(await findRun(workshopId, runId)));
+  });
+
+  /**
+   * 409 with the conflict's own code. `setup_mismatch` lists every element that differs, as
+   * issues (path `panels.<panelId>.elements.<elementId>`) and as `differences`.
+   */
+  function sendConflict(res: import("express").Response, error: RunConflict) {
+    res.status(409).json({
+      error: {
+        code: error.code,
+        message: error.message,
+        ...(error.differences.length
+          ? { issues: error.differences.map((d) => ({ path: `panels.${d.panelId}.elements.${d.elementId}`, message: d.sentence })), differences: error.differences }
+          : {}),
+      },
+    });
+  }
+
+  router.post("/:workshopId/runs/:runId/checks", async (req, res) => {
+    const { workshopId, runId } = parseParams(req, runParams);
+    authorize(runPolicy.control(await member(req, workshopId)), forbidden);
+    const body = parseBody(req, runChecksBody);
+    const session = await sessionFor(await findRun(workshopId, runId));
+    try {
+      switch (body.action) {
+        case "walk_start":
+          session.startWalk(body.timeoutSec);
+          break;
+        case "walk_skip":
+          session.skipWalkStep();
+          break;
+        case "walk_cancel":
+          session.cancelWalk();
+          break;
+        case "observe":
+          session.observe(body.elements);
+          break;
+        case "answer":
+          session.answer(body.checkpointId, body.answer);
+          break;
+      }
+    } catch (error) {
+      if (error instanceof RunConflict) {
+        await session.settle();
+        sendConflict(res, error);
+        return;
+      }
+      refusalOf(error);
+    }
+    await session.settle();
+    res.json(await consoleDetailOf(await findRun(workshopId, runId)));
+  });
+
+  /** A virtual link's injected faults, changed while the run is set up or plays; the console's virtual panel applies them. */
+  router.put("/:workshopId/runs/:runId/links/:panelId/faults", async (req, res) => {
+    const { workshopId, runId, panelId } = parseParams(req, linkParams);
+    authorize(runPolicy.control(await member(req, workshopId)), forbidden);
+    const { faults } = parseBody(req, linkFaultsBody);
+    const row = await findRun(workshopId, runId);
+    const state = runs.effectiveState(row);
+    if (state === "finished" || state === "failed") throw new HttpError("conflict", "This run has finished; its faults can no longer change.");
+    const index = row.links.findIndex((l) => l.panelId === panelId);
+    if (index < 0) throw notFound("This panel is not part of the run.");
+    const link = row.links[index];
+    if (link.kind !== "virtual") throw invalid("params.panelId", `this panel is linked as ${link.kind}; only a virtual panel takes injected faults`);
+    const elementIds = new Set(row.panels.find((p) => p.panelId === panelId)?.definition.elements.map((e) => e.id) ?? []);
+    faults.forEach((f, i) => {
+      if ("element" in f && !elementIds.has(f.element)) throw invalid(`body.faults.${i}.element`, `the panel has no element "${f.element}"`);
+      if (f.kind === "disconnect" && f.toMs <= f.fromMs) throw invalid(`body.faults.${i}.toMs`, "must be after fromMs");
+    });
+    const links = row.links.map((l, i) => (i === index ? { ...link, faults } : l));
+    await db.update(run).set({ links }).where(eq(run.id, runId));
+    res.json(await consoleDetailOf(await findRun(workshopId, runId)));
   });
 
   router.post("/:workshopId/runs/:runId/rejudge", async (req, res) => {
@@ -197,7 +326,7 @@ export function runsRouter(services: Services) {
     const judged = await judgeStored(db, row, tolerance);
     await storeJudgement(db, runId, judged);
     await db.update(run).set({ tolerance }).where(eq(run.id, runId));
-    res.json(await detailOf(db, await findRun(workshopId, runId), runs));
+    res.json(await consoleDetailOf(await findRun(workshopId, runId)));
   });
 
   router.get("/:workshopId/runs/:runId/mismatches", async (req, res) => {

@@ -25,7 +25,8 @@ export interface LinkGap {
   toMs: number;
 }
 
-export const MISMATCH_KINDS = ["wrong_value", "late", "unexpected_input"] as const;
+/** `observed`: the builder answered "no" at an observation checkpoint (docs/judging.md). */
+export const MISMATCH_KINDS = ["wrong_value", "late", "unexpected_input", "observed"] as const;
 export type MismatchKind = (typeof MISMATCH_KINDS)[number];
 
 /** An interval where seen differed from expected beyond tolerance for longer than the lag budget. */

@@ -7,37 +7,15 @@ import type { Fault } from "../../shared/virtual/faults";
 import { Button, Card, ErrorNote, Field, Loading, PageTitle, Select } from "../components/ui";
 import { panelKeys, usePanel, usePanels } from "../features/panels/queries";
 import { useRecordings } from "../features/recordings/queries";
+import { FaultPicker } from "../features/runs/FaultPicker";
 import { useCreateRun } from "../features/runs/queries";
-import { rememberRunFaults } from "../features/runs/virtual-panel";
-import { FAULT_WORDS } from "../features/runs/words";
-
-type FaultKind = Fault["kind"];
-
-/** The numbers each fault kind asks for, with a default; booleans and choices are handled apart. */
-const FAULT_NUMBERS: Record<FaultKind, { key: string; label: string; value: number }[]> = {
-  lamp_stuck: [],
-  lamp_inverted: [],
-  pointer_offset: [{ key: "degrees", label: "Degrees", value: 15 }],
-  pointer_scale: [{ key: "factor", label: "Factor", value: 1.2 }],
-  pointer_slow: [{ key: "degPerSec", label: "Degrees per second", value: 20 }],
-  missed_steps: [
-    { key: "everyMs", label: "Every (ms)", value: 2000 },
-    { key: "degrees", label: "Degrees", value: 2 },
-  ],
-  digit_dropped: [{ key: "position", label: "Digit (0 = leftmost)", value: 0 }],
-  breaker_stuck: [],
-  added_lag: [{ key: "ms", label: "Lag (ms)", value: 800 }],
-  disconnect: [
-    { key: "fromMs", label: "From (ms)", value: 5000 },
-    { key: "toMs", label: "To (ms)", value: 10000 },
-  ],
-};
-const FAULT_KINDS = Object.keys(FAULT_NUMBERS) as FaultKind[];
 
 interface LinkDraft {
   kind: (typeof LINK_KINDS)[number];
   panelId: string;
   faults: Fault[];
+  /** Elements the builder watches by eye (observation mode). */
+  observed: string[];
   path: string;
   baud: number;
   address: number;
@@ -85,18 +63,22 @@ export function RunSetup() {
   const ready = (recordings.data ?? []).filter((r) => r.status === "ready");
   const panelList = panels.data ?? [];
   const chosenRecording = recordingId || ready[0]?.id || "";
-  const newLink = (): LinkDraft => ({ kind: "virtual", panelId: panelList.find((p) => !links.some((l) => l.panelId === p.id))?.id ?? panelList[0]?.id ?? "", faults: [], path: "/dev/ttyUSB0", baud: 115200, address: links.length + 1 });
+  const newLink = (): LinkDraft => ({ kind: "virtual", panelId: panelList.find((p) => !links.some((l) => l.panelId === p.id))?.id ?? panelList[0]?.id ?? "", faults: [], observed: [], path: "/dev/ttyUSB0", baud: 115200, address: links.length + 1 });
   const shown = links.length ? links : panelList.length ? [newLink()] : [];
   const update = (i: number, patch: Partial<LinkDraft>) => setLinks(shown.map((l, j) => (j === i ? { ...l, ...patch } : l)));
 
   const submit = () => {
-    const body: CreateRunBody = { recordingId: chosenRecording, links: shown.map(toInput), speed, tolerance: lagBudget.trim() ? { lagBudgetMs: Math.round(Number(lagBudget)) } : {}, ...(name.trim() ? { name: name.trim() } : {}) };
-    create.mutate(body, {
-      onSuccess: (run) => {
-        rememberRunFaults(run.id, body.links.map((l) => ({ panelId: l.panelId, kind: l.kind, faults: l.kind === "virtual" ? l.faults : undefined })));
-        navigate(`/w/${w.id}/runs/${run.id}`);
-      },
-    });
+    const observed = shown.flatMap((l) => l.observed.map((elementId) => ({ panelId: l.panelId, elementId })));
+    const body: CreateRunBody = {
+      recordingId: chosenRecording,
+      links: shown.map(toInput),
+      speed,
+      tolerance: lagBudget.trim() ? { lagBudgetMs: Math.round(Number(lagBudget)) } : {},
+      ...(name.trim() ? { name: name.trim() } : {}),
+      ...(observed.length ? { observed } : {}),
+    };
+    // The run keeps each virtual link's faults; the console reads them back from the run.
+    create.mutate(body, { onSuccess: (run) => navigate(`/w/${w.id}/runs/${run.id}`) });
   };
 
   return (
@@ -120,7 +102,7 @@ export function RunSetup() {
             ))}
           </Select>
           <Select label="Speed" value={String(speed)} onChange={(e) => setSpeed(Number(e.target.value))}>
-            {[0.5, 1, 2, 4, 8, 16].map((s) => (
+            {[0.1, 0.25, 0.5, 1, 2, 4, 8, 16].map((s) => (
               <option key={s} value={s}>
                 {s}×
               </option>
@@ -180,29 +162,14 @@ function LinkEditor({
   onRemove?: () => void;
 }) {
   const panel = usePanel(workshopId, draft.panelId);
-  const elements = (panel.data?.definition.elements ?? []).filter((e) => !e.placeholder);
-  const [faultKind, setFaultKind] = useState<FaultKind>("lamp_stuck");
-  const [element, setElement] = useState("");
-  const [lit, setLit] = useState(true);
-  const [breaker, setBreaker] = useState<"in" | "pulled" | "tripped">("pulled");
-  const [numbers, setNumbers] = useState<Record<string, number>>({});
-  const chosenElement = element || elements[0]?.id || "";
-
-  const addFault = () => {
-    const nums = Object.fromEntries(FAULT_NUMBERS[faultKind].map((n) => [n.key, numbers[`${faultKind}.${n.key}`] ?? n.value]));
-    let f: Fault;
-    if (faultKind === "disconnect") f = { kind: "disconnect", fromMs: nums.fromMs, toMs: nums.toMs };
-    else if (faultKind === "lamp_stuck") f = { kind: "lamp_stuck", element: chosenElement, lit };
-    else if (faultKind === "breaker_stuck") f = { kind: "breaker_stuck", element: chosenElement, position: breaker };
-    else f = { kind: faultKind, element: chosenElement, ...nums } as Fault;
-    onChange({ faults: [...draft.faults, f] });
-  };
+  const elements = panel.data?.definition.elements ?? [];
+  const observable = elements.filter((e) => !e.placeholder && e.kind !== "encoder");
 
   return (
     <fieldset className="rounded-lg border border-rule bg-card p-5" aria-label={`Panel ${index + 1}`}>
       <legend className="px-1 text-lg font-semibold">Panel {index + 1}</legend>
       <div className="grid gap-3 sm:grid-cols-3">
-        <Select label="Panel" value={draft.panelId} onChange={(e) => onChange({ panelId: e.target.value, faults: [] })}>
+        <Select label="Panel" value={draft.panelId} onChange={(e) => onChange({ panelId: e.target.value, faults: [], observed: [] })}>
           {panels.map((p) => (
             <option key={p.id} value={p.id}>
               {p.name}
@@ -233,69 +200,28 @@ function LinkEditor({
       )}
       {draft.kind === "network" && <p className="mt-3 text-sm text-ink-soft">The board connects with one of this panel's device tokens once the run is open.</p>}
       {draft.kind === "virtual" && (
-        <div className="mt-4 flex flex-col gap-3" role="group" aria-label="Injected faults">
+        <div className="mt-4 flex flex-col gap-3">
           <h3 className="font-semibold">Injected faults</h3>
-          {draft.faults.length === 0 ? (
-            <p className="text-sm text-ink-soft">None: a healthy virtual panel should pass.</p>
-          ) : (
-            <ul className="flex flex-col gap-1 text-sm" aria-label="Faults to inject">
-              {draft.faults.map((f, i) => (
-                <li key={i} className="flex items-center gap-3">
-                  <span className="font-mono">
-                    ▲ {FAULT_WORDS[f.kind]}
-                    {"element" in f ? ` on ${f.element}` : ` ${f.fromMs}–${f.toMs} ms`}
-                  </span>
-                  <button type="button" className="text-bad underline" onClick={() => onChange({ faults: draft.faults.filter((_, j) => j !== i) })}>
-                    remove
-                  </button>
-                </li>
-              ))}
-            </ul>
-          )}
-          <div className="flex flex-wrap items-end gap-3">
-            <Select label="Fault" value={faultKind} onChange={(e) => setFaultKind(e.target.value as FaultKind)}>
-              {FAULT_KINDS.map((k) => (
-                <option key={k} value={k}>
-                  {FAULT_WORDS[k]}
-                </option>
-              ))}
-            </Select>
-            {faultKind !== "disconnect" && (
-              <Select label="Element" value={chosenElement} onChange={(e) => setElement(e.target.value)}>
-                {elements.map((e) => (
-                  <option key={e.id} value={e.id}>
-                    {e.label} ({e.id})
-                  </option>
-                ))}
-              </Select>
-            )}
-            {faultKind === "lamp_stuck" && (
-              <Select label="Stuck" value={lit ? "lit" : "dark"} onChange={(e) => setLit(e.target.value === "lit")}>
-                <option value="lit">lit</option>
-                <option value="dark">dark</option>
-              </Select>
-            )}
-            {faultKind === "breaker_stuck" && (
-              <Select label="Stuck at" value={breaker} onChange={(e) => setBreaker(e.target.value as typeof breaker)}>
-                <option value="in">in</option>
-                <option value="pulled">pulled</option>
-                <option value="tripped">tripped</option>
-              </Select>
-            )}
-            {FAULT_NUMBERS[faultKind].map((n) => (
-              <Field
-                key={`${faultKind}.${n.key}`}
-                label={n.label}
-                type="number"
-                value={numbers[`${faultKind}.${n.key}`] ?? n.value}
-                onChange={(e) => setNumbers({ ...numbers, [`${faultKind}.${n.key}`]: Number(e.target.value) })}
-              />
-            ))}
-            <Button type="button" onClick={addFault} disabled={faultKind !== "disconnect" && !chosenElement}>
-              Add the fault
-            </Button>
-          </div>
+          <FaultPicker elements={elements} faults={draft.faults} onChange={(faults) => onChange({ faults })} />
         </div>
+      )}
+      {observable.length > 0 && (
+        <fieldset className="mt-4 flex flex-col gap-2">
+          <legend className="font-semibold">Watched by eye</legend>
+          <p className="text-sm text-ink-soft">For elements the board cannot sense: the console pauses at each change of what they should show and asks you.</p>
+          <div className="flex flex-wrap gap-x-5 gap-y-1">
+            {observable.map((e) => (
+              <label key={e.id} className="flex items-center gap-2 text-sm">
+                <input
+                  type="checkbox"
+                  checked={draft.observed.includes(e.id)}
+                  onChange={(ev) => onChange({ observed: ev.target.checked ? [...draft.observed, e.id] : draft.observed.filter((x) => x !== e.id) })}
+                />
+                {e.label}
+              </label>
+            ))}
+          </div>
+        </fieldset>
       )}
     </fieldset>
   );

@@ -25,7 +25,7 @@ export function SharedReport() {
         {report.data && (
           <>
             <PageTitle sub={`Shared read-only; this link works until ${new Date(report.data.sharedUntil).toLocaleString()}.`}>{report.data.run.name}</PageTitle>
-            <ReportBody report={report.data} />
+            <ReportBody report={report.data} source={{ kind: "shared", token }} />
           </>
         )}
       </main>

@@ -59,6 +59,12 @@ const CASES: RouteCase[] = [
   { name: "POST share", call: (v) => v.post(`${base}/runs/${runId}/shares`, { expiresInDays: 3 }), expect: WRITE(201) },
   { name: "GET shares", call: (v) => v.get(`${base}/runs/${runId}/shares`), expect: READ },
   { name: "DELETE share", call: async (v) => v.delete(`${base}/runs/${runId}/shares/${await freshShare()}`), expect: WRITE(200) },
+  // The report side (server/routes/run-reports.ts): reading like the report, e-mailing like sharing.
+  { name: "GET compare", call: async (v) => v.get(`${base}/runs/${runId}/compare/${await freshRun()}`), expect: READ },
+  { name: "GET panel run history", call: (v) => v.get(`${base}/panels/${panelId}/run-history`), expect: READ },
+  { name: "GET expected", call: (v) => v.get(`${base}/runs/${runId}/expected`), expect: READ },
+  { name: "GET traces", call: (v) => v.get(`${base}/runs/${runId}/traces?panelId=${panelId}&elementId=airspeed`), expect: READ },
+  { name: "POST email", call: (v) => v.post(`${base}/runs/${runId}/email`, { addresses: ["matrix-reader@panelproof.example"] }), expect: WRITE(200) },
 ];
 
 describe("runs role matrix", () => {

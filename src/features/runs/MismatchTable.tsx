@@ -2,8 +2,6 @@ import {
   createColumnHelper,
   flexRender,
   getCoreRowModel,
-  getFilteredRowModel,
-  getSortedRowModel,
   useReactTable,
   type ColumnFiltersState,
   type SortingState,
@@ -15,10 +13,24 @@ import { clock, Empty, MISMATCH_WORDS } from "./words";
 
 const col = createColumnHelper<LiveMismatch>();
 
-/** Every mismatch kept: sortable, filtered by element and kind; a click seeks there when allowed. */
-export function MismatchTable({ mismatches, labels, onSeek }: { mismatches: LiveMismatch[]; labels: Record<string, string>; onSeek?: (ms: number) => void }) {
+/**
+ * Every mismatch kept: sortable, filtered by element and kind, shown a page at a time (a run may
+ * keep 10,000 and the page must stay quick); a click seeks there when allowed.
+ */
+export function MismatchTable({
+  mismatches,
+  labels,
+  onSeek,
+  pageSize = 100,
+}: {
+  mismatches: LiveMismatch[];
+  labels: Record<string, string>;
+  onSeek?: (ms: number) => void;
+  pageSize?: number;
+}) {
   const [sorting, setSorting] = useState<SortingState>([{ id: "startMs", desc: false }]);
   const [filters, setFilters] = useState<ColumnFiltersState>([]);
+  const [pagination, setPagination] = useState({ pageIndex: 0, pageSize });
   const columns = useMemo(
     () => [
       col.accessor("startMs", { header: "From", cell: (c) => clock(c.getValue()) }),
@@ -31,22 +43,55 @@ export function MismatchTable({ mismatches, labels, onSeek }: { mismatches: Live
     ],
     [labels],
   );
+  const elementFilter = (filters.find((f) => f.id === "elementId")?.value as string | undefined) ?? "";
+  const kindFilter = (filters.find((f) => f.id === "kind")?.value as string | undefined) ?? "";
+  // Filtering, sorting and paging are done here on plain arrays and TanStack Table gets only the
+  // page shown: with 10,000 mismatches its row models (a row object per mismatch, rebuilt per
+  // change) cost more than the page's whole first paint may.
+  const filtered = useMemo(
+    () => (elementFilter || kindFilter ? mismatches.filter((m) => (!elementFilter || m.elementId === elementFilter) && (!kindFilter || m.kind === kindFilter)) : mismatches),
+    [mismatches, elementFilter, kindFilter],
+  );
+  const sorted = useMemo(() => {
+    const by = sorting[0];
+    if (!by) return filtered;
+    const key = by.id as keyof LiveMismatch;
+    const direction = by.desc ? -1 : 1;
+    return [...filtered].sort((a, b) => {
+      const x = a[key] ?? "";
+      const y = b[key] ?? "";
+      return (x < y ? -1 : x > y ? 1 : 0) * direction || a.startMs - b.startMs;
+    });
+  }, [filtered, sorting]);
+  const pages = Math.max(1, Math.ceil(sorted.length / pagination.pageSize));
+  const pageIndex = Math.min(pagination.pageIndex, pages - 1);
+  const pageRows = useMemo(() => sorted.slice(pageIndex * pagination.pageSize, (pageIndex + 1) * pagination.pageSize), [sorted, pageIndex, pagination.pageSize]);
   const table = useReactTable({
-    data: mismatches,
+    data: pageRows,
     columns,
-    state: { sorting, columnFilters: filters },
-    onSortingChange: setSorting,
+    state: { sorting, columnFilters: filters, pagination: { pageIndex, pageSize: pagination.pageSize } },
+    manualSorting: true,
+    manualFiltering: true,
+    manualPagination: true,
+    pageCount: pages,
+    onSortingChange: (updater) => {
+      setSorting(updater);
+      setPagination((p) => ({ ...p, pageIndex: 0 }));
+    },
     onColumnFiltersChange: setFilters,
+    onPaginationChange: setPagination,
     getCoreRowModel: getCoreRowModel(),
-    getSortedRowModel: getSortedRowModel(),
-    getFilteredRowModel: getFilteredRowModel(),
   });
-  const elements = [...new Set(mismatches.map((m) => m.elementId))].sort();
+  const elements = useMemo(() => [...new Set(mismatches.map((m) => m.elementId))].sort(), [mismatches]);
   const value = (id: string) => (filters.find((f) => f.id === id)?.value as string | undefined) ?? "";
-  const setFilter = (id: string, v: string) => setFilters((old) => [...old.filter((f) => f.id !== id), ...(v ? [{ id, value: v }] : [])]);
+  const setFilter = (id: string, v: string) => {
+    setFilters((old) => [...old.filter((f) => f.id !== id), ...(v ? [{ id, value: v }] : [])]);
+    setPagination((p) => ({ ...p, pageIndex: 0 }));
+  };
 
   if (mismatches.length === 0) return <Empty>No mismatch so far.</Empty>;
   const rows = table.getRowModel().rows;
+  const matching = sorted.length;
   return (
     <div className="flex flex-col gap-3">
       <div className="flex flex-wrap items-end gap-3" role="search" aria-label="Filter mismatches">
@@ -73,7 +118,7 @@ export function MismatchTable({ mismatches, labels, onSeek }: { mismatches: Live
           </select>
         </label>
         <p className="ml-auto text-sm text-ink-soft" role="status">
-          {rows.length === mismatches.length ? `${mismatches.length} ${mismatches.length === 1 ? "mismatch" : "mismatches"}` : `${rows.length} of ${mismatches.length} mismatches`}
+          {matching === mismatches.length ? `${mismatches.length} ${mismatches.length === 1 ? "mismatch" : "mismatches"}` : `${matching} of ${mismatches.length} mismatches`}
         </p>
       </div>
       <div className="overflow-x-auto rounded-lg border border-rule bg-card">
@@ -123,6 +168,25 @@ export function MismatchTable({ mismatches, labels, onSeek }: { mismatches: Live
           </tbody>
         </table>
       </div>
+      {pages > 1 && (
+        <nav className="flex flex-wrap items-center gap-2 text-sm" aria-label="Mismatch pages">
+          <button type="button" className="rounded-md border border-rule bg-card px-2.5 py-1 disabled:opacity-40" onClick={() => table.firstPage()} disabled={!table.getCanPreviousPage()}>
+            « First
+          </button>
+          <button type="button" className="rounded-md border border-rule bg-card px-2.5 py-1 disabled:opacity-40" onClick={() => table.previousPage()} disabled={!table.getCanPreviousPage()}>
+            ‹ Previous
+          </button>
+          <span role="status" aria-label="Mismatch page">
+            page {pageIndex + 1} of {pages} · rows {pageIndex * pagination.pageSize + 1}–{Math.min(matching, (pageIndex + 1) * pagination.pageSize)}
+          </span>
+          <button type="button" className="rounded-md border border-rule bg-card px-2.5 py-1 disabled:opacity-40" onClick={() => table.nextPage()} disabled={!table.getCanNextPage()}>
+            Next ›
+          </button>
+          <button type="button" className="rounded-md border border-rule bg-card px-2.5 py-1 disabled:opacity-40" onClick={() => table.lastPage()} disabled={!table.getCanNextPage()}>
+            Last »
+          </button>
+        </nav>
+      )}
     </div>
   );
 }

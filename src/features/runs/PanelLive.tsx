@@ -1,11 +1,14 @@
-import { useEffect, useMemo, useState } from "react";
+import { useEffect, useMemo, useRef, useState } from "react";
+import type { Element } from "../../../shared/elements/kinds";
 import type { ExpectedState } from "../../../shared/expect";
 import type { Fault } from "../../../shared/virtual/faults";
+import type { HeldInput } from "../../../shared/virtual/panel-device";
 import { PanelDrawing, arrange } from "../../components/PanelDrawing";
 import { usePanel } from "../panels/queries";
 import { useAirframe } from "../recordings/queries";
 import { elementKey } from "./live";
 import { BrowserPanel, hostInBrowser, type BrowserLinkState } from "./virtual-panel";
+import { useVirtualPanelElsewhere } from "./virtual-elsewhere";
 import { FAULT_WORDS, StatusTag } from "./words";
 
 const LINK_WORDS: Record<BrowserLinkState, string> = {
@@ -29,6 +32,7 @@ export function PanelLive({
   finished,
   statuses,
   connected,
+  observed = [],
 }: {
   workshopId: string;
   runId: string;
@@ -39,6 +43,8 @@ export function PanelLive({
   finished: boolean;
   statuses: Record<string, string>;
   connected: boolean;
+  /** Elements watched by eye: marked on the list under the drawing. */
+  observed?: string[];
 }) {
   const panel = usePanel(workshopId, panelId);
   const airframe = useAirframe(workshopId, panel.data?.airframeId ?? null);
@@ -47,13 +53,20 @@ export function PanelLive({
   const [linkState, setLinkState] = useState<BrowserLinkState | null>(null);
   const [closeReason, setCloseReason] = useState<string | null>(null);
   const [states, setStates] = useState<Record<string, ExpectedState> | undefined>(undefined);
+  const [held, setHeld] = useState<Record<string, HeldInput>>({});
   const virtual = kind === "virtual";
   const faultKey = JSON.stringify(faults);
+  // Another window of this browser may play the panel (its own window beside the console): then it holds the link.
+  const elsewhere = useVirtualPanelElsewhere(runId, panelId);
+  const hostHere = virtual && !finished && !elsewhere;
+  const initialFaults = useRef(faults);
+  initialFaults.current = faults;
 
   useEffect(() => {
-    if (!virtual || finished || !definition || !airframe.data) return;
-    const d = new BrowserPanel(definition, airframe.data.channels, JSON.parse(faultKey) as Fault[]);
+    if (!hostHere || !definition || !airframe.data) return;
+    const d = new BrowserPanel(definition, airframe.data.channels, initialFaults.current);
     setDevice(d);
+    setHeld({});
     const stop = hostInBrowser(d, runId, panelId, (s, reason) => {
       setLinkState(s);
       if (reason) setCloseReason(reason);
@@ -62,12 +75,26 @@ export function PanelLive({
     return () => {
       clearInterval(timer);
       stop();
+      setDevice(null);
     };
-  }, [virtual, finished, definition, airframe.data, runId, panelId, faultKey]);
+  }, [hostHere, definition, airframe.data, runId, panelId]);
+
+  // Faults change while the run plays: the panel keeps its link and applies them from now on.
+  useEffect(() => {
+    device?.setFaults(JSON.parse(faultKey) as Fault[]);
+  }, [device, faultKey]);
 
   useEffect(() => {
     if (device) device.speed = speed;
   }, [device, speed]);
+
+  /** The builder's hand on this browser's panel: the input rests there and the link says so. */
+  const move = (el: Element, to: HeldInput | null) => {
+    if (!device) return;
+    if (to) device.moveInput(el.id, to);
+    else device.releaseInput(el.id);
+    setHeld(Object.fromEntries(device.heldInputs()));
+  };
 
   const arrangement = useMemo(() => (definition ? arrange(definition) : null), [definition]);
   if (!definition || !arrangement) return <p className="text-sm text-ink-soft">Reading the panel…</p>;
@@ -84,9 +111,15 @@ export function PanelLive({
         <h3 className="font-semibold">{panel.data?.name ?? definition.name}</h3>
         <span className="font-mono text-xs" data-testid={`link-${panelId}`}>
           {kind} link: {connected ? "● connected" : "○ not connected"}
-          {virtual && linkState && ` · this browser: ${LINK_WORDS[linkState]}`}
+          {virtual && elsewhere && " · played in its own window"}
+          {virtual && !elsewhere && linkState && ` · this browser: ${LINK_WORDS[linkState]}`}
           {virtual && closeReason && linkState === "closed" && ` (${closeReason})`}
         </span>
+        {virtual && !finished && !elsewhere && (
+          <a href={`/w/${workshopId}/runs/${runId}/panels/${panelId}/virtual`} target="_blank" rel="opener" className="text-xs text-calm underline">
+            Open in its own window
+          </a>
+        )}
       </header>
       {virtual && (
         <p className="text-xs text-ink-soft" aria-label="Injected faults">
@@ -96,7 +129,7 @@ export function PanelLive({
         </p>
       )}
       <div className="relative">
-        <PanelDrawing panel={definition} states={virtual ? states : undefined} title={`${definition.name} as it shows now`} className="block" />
+        <PanelDrawing panel={definition} states={elsewhere ? elsewhere.states : virtual ? states : undefined} title={`${definition.name} as it shows now`} className="block" />
         <svg viewBox={vb} className="pointer-events-none absolute inset-0 h-full w-full" aria-hidden="true">
           {a.items.map((item) => {
             const bad = item.elements.filter((e) => statuses[elementKey(panelId, e.id)] === "fail");
@@ -114,6 +147,12 @@ export function PanelLive({
           })}
         </svg>
       </div>
+      {device && <HandControls elements={definition.elements} held={held} states={states} onMove={move} />}
+      {observed.length > 0 && (
+        <p className="text-xs text-ink-soft" data-testid={`observed-${panelId}`}>
+          ◉ Watched by eye: {definition.elements.filter((e) => observed.includes(e.id)).map((e) => e.label).join(", ")}
+        </p>
+      )}
       <ul className="flex flex-wrap gap-2 text-sm" aria-label={`Failing elements of ${definition.name}`}>
         {failing.length === 0 ? (
           <li className="text-ink-soft">No element has failed so far.</li>
@@ -126,5 +165,57 @@ export function PanelLive({
         )}
       </ul>
     </section>
+  );
+}
+
+/**
+ * The virtual panel's inputs under the builder's hand: each switch, lever and breaker follows the
+ * recording until moved here; then it rests where it was put and the link sends an input event,
+ * as a real board does (for the set-up check and the input walk).
+ */
+function HandControls({
+  elements,
+  held,
+  states,
+  onMove,
+}: {
+  elements: readonly Element[];
+  held: Record<string, HeldInput>;
+  states: Record<string, ExpectedState> | undefined;
+  onMove: (el: Element, to: HeldInput | null) => void;
+}) {
+  const inputs = elements.filter((e) => !e.placeholder && (e.kind === "switch" || e.kind === "lever" || e.kind === "breaker"));
+  if (inputs.length === 0) return null;
+  return (
+    <fieldset className="flex flex-wrap items-end gap-4 rounded-md border border-rule px-3 py-2" aria-label="Inputs of this browser's panel">
+      <legend className="px-1 text-xs font-semibold text-ink-soft">Your hand on this browser's panel</legend>
+      {inputs.map((el) => {
+        const h = held[el.id];
+        const options = el.kind === "breaker" ? ["in", "pulled"] : el.kind === "switch" || el.kind === "lever" ? el.positions : [];
+        const current = h ? h.position : el.kind === "breaker" ? (states?.[el.id]?.breaker ?? "") : (states?.[el.id]?.position ?? "");
+        return (
+          <label key={el.id} className="flex flex-col gap-1 text-xs font-semibold">
+            {el.label}
+            <select
+              aria-label={`Move ${el.label}`}
+              value={h ? h.position : ""}
+              onChange={(e) => {
+                const v = e.target.value;
+                if (!v) onMove(el, null);
+                else onMove(el, el.kind === "breaker" ? { kind: "breaker", position: v as "in" | "pulled" } : { kind: "position", position: v });
+              }}
+              className="rounded-md border border-rule bg-card px-2 py-1 font-normal"
+            >
+              <option value="">follows the recording{current && !h ? ` (${current})` : ""}</option>
+              {options.map((p) => (
+                <option key={p} value={p}>
+                  {el.kind === "breaker" ? (p === "in" ? "pushed in" : "pulled") : p} (by hand)
+                </option>
+              ))}
+            </select>
+          </label>
+        );
+      })}
+    </fieldset>
   );
 }

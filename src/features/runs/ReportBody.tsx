@@ -1,15 +1,40 @@
-import { Card } from "../../components/ui";
+import { useMemo, useState } from "react";
+import type { RunExpectedView } from "../../../shared/api/run-reports";
+import { Card, ErrorNote, Loading } from "../../components/ui";
+import { elementKey } from "./live";
 import { MismatchTable } from "./MismatchTable";
+import { PanelAtInstant } from "./PanelAtInstant";
+import { PointerTraces } from "./PointerTraces";
 import type { RunReportView } from "./queries";
+import { useRunExpected, type ReportSource } from "./report-queries";
+import { TimelineLanes, type TimelineGap, type TimelineMismatch } from "./TimelineLanes";
 import { clock, ms, StateTag, StatusTag } from "./words";
 
 const COUNT_ORDER = ["pass", "fail", "no_data", "untested", "placeholder"];
 
-/** The report of one run, as the workshop and a share link's reader see it. */
-export function ReportBody({ report }: { report: RunReportView }) {
+type ReportMismatch = RunReportView["panels"][number]["elements"][number]["mismatches"][number] & { panelId: string; elementId: string };
+
+/**
+ * The report of one run, as the workshop and a share link's reader see it: summary, coverage
+ * gaps with suggestions, a timeline with one lane per element, the panel at any instant, a
+ * pointer's traces, the per-element table and every mismatch. One instant (`atMs`) ties them:
+ * the slider, a click on a lane, a trace or a mismatch row moves it.
+ */
+export function ReportBody({ report, source }: { report: RunReportView; source: ReportSource }) {
   const { run, summary } = report;
-  const mismatches = report.panels.flatMap((p) => p.elements.flatMap((e) => e.mismatches.map((m) => ({ ...m, panelId: p.panelId, elementId: e.elementId }))));
-  const labels = Object.fromEntries(report.panels.flatMap((p) => p.elements.map((e) => [e.elementId, e.label])));
+  const expected = useRunExpected(source);
+  const mismatches = useMemo<ReportMismatch[]>(
+    () => report.panels.flatMap((p) => p.elements.flatMap((e) => e.mismatches.map((m) => ({ ...m, panelId: p.panelId, elementId: e.elementId })))),
+    [report],
+  );
+  const labels = useMemo(() => Object.fromEntries(report.panels.flatMap((p) => p.elements.map((e) => [e.elementId, e.label]))), [report]);
+  const fromMs = expected.data?.judgedFromMs ?? 0;
+  const toMs = expected.data?.judgedToMs ?? run.positionMs;
+  const [chosenMs, setAtMs] = useState<number | null>(null);
+  const firstMismatch = useMemo(() => mismatches.reduce((min, m) => Math.min(min, m.startMs), Infinity), [mismatches]);
+  const atMs = chosenMs ?? (Number.isFinite(firstMismatch) ? firstMismatch : fromMs);
+  const seek = (t: number) => setAtMs(Math.min(toMs, Math.max(fromMs, t)));
+
   return (
     <div className="flex flex-col gap-5">
       <Card title="Summary" aside={<StateTag state={run.state} />}>
@@ -45,6 +70,27 @@ export function ReportBody({ report }: { report: RunReportView }) {
           ))}
         </ul>
       </Card>
+
+      {expected.isPending && <Loading what="Working out what every element should show" />}
+      <ErrorNote error={expected.error} />
+      {expected.data && (
+        <>
+          <CoverageCard view={expected.data} />
+          <Card title="Timeline">
+            <ReportTimeline report={report} view={expected.data} mismatches={mismatches} atMs={atMs} onSeek={seek} />
+          </Card>
+          <Card title="The panel at any instant">
+            <InstantSlider fromMs={fromMs} toMs={toMs} atMs={atMs} onChange={seek} mismatches={mismatches} />
+            <div className="mt-4 grid gap-6 lg:grid-cols-2">
+              {expected.data.panels.map((p) => (
+                <PanelAtInstant key={p.panelId} panel={p} atMs={atMs} mismatches={mismatches.filter((m) => m.panelId === p.panelId)} />
+              ))}
+            </div>
+          </Card>
+          <TracesCard report={report} source={source} atMs={atMs} fromMs={fromMs} toMs={toMs} onSeek={seek} />
+        </>
+      )}
+
       {report.panels.map((p) => (
         <Card key={p.panelId} title={p.name}>
           <p className="mb-3 text-sm text-ink-soft">
@@ -52,7 +98,7 @@ export function ReportBody({ report }: { report: RunReportView }) {
             {Object.keys(p.link.faults).length > 0 && ` · refused frames: ${Object.entries(p.link.faults).map(([k, v]) => `${k} ${v}`).join(", ")}`}
           </p>
           {p.link.gaps.length > 0 && (
-            <p className="mb-3 text-sm" aria-label="Coverage gaps">
+            <p className="mb-3 text-sm" aria-label="Stretches without data">
               ◌ Without data: {p.link.gaps.map((g) => `${clock(g.fromMs)}–${clock(g.toMs)}`).join(", ")}
             </p>
           )}
@@ -93,8 +139,111 @@ export function ReportBody({ report }: { report: RunReportView }) {
         </Card>
       ))}
       <Card title="Mismatches">
-        <MismatchTable mismatches={mismatches} labels={labels} />
+        <MismatchTable mismatches={mismatches} labels={labels} onSeek={seek} />
       </Card>
     </div>
+  );
+}
+
+function ReportTimeline({ report, view, mismatches, atMs, onSeek }: { report: RunReportView; view: RunExpectedView; mismatches: ReportMismatch[]; atMs: number; onSeek: (ms: number) => void }) {
+  const { elements, laneMismatches, gaps, changes } = useMemo(() => {
+    const elements = report.panels.flatMap((p) => p.elements.map((e) => ({ key: elementKey(p.panelId, e.elementId), label: report.panels.length > 1 ? `${e.label} · ${p.name}` : e.label, status: e.status })));
+    const laneMismatches: TimelineMismatch[] = mismatches.map((m) => ({ laneKey: elementKey(m.panelId, m.elementId), startMs: m.startMs, endMs: m.endMs }));
+    const gaps: TimelineGap[] = report.panels.flatMap((p) => p.link.gaps.map((g) => ({ ...g, laneKeys: p.elements.map((e) => elementKey(p.panelId, e.elementId)) })));
+    // Coverage: every instant the expected value changed, per element (pointers: their points).
+    const changes: Record<string, number[]> = {};
+    for (const p of view.panels) {
+      for (const tl of p.timelines.elements) {
+        const times = new Set<number>();
+        for (const [name, track] of Object.entries(tl.tracks)) if (name !== "mode" && track) for (const c of track.slice(1)) times.add(c.t);
+        if (tl.angle) for (const t of tl.angle.t.slice(1)) times.add(t);
+        changes[elementKey(p.panelId, tl.id)] = [...times];
+      }
+    }
+    return { elements, laneMismatches, gaps, changes };
+  }, [report, view, mismatches]);
+  return <TimelineLanes elements={elements} mismatches={laneMismatches} gaps={gaps} fromMs={view.judgedFromMs} durationMs={view.judgedToMs - view.judgedFromMs} positionMs={atMs} onSeek={onSeek} changes={changes} />;
+}
+
+function InstantSlider({ fromMs, toMs, atMs, onChange, mismatches }: { fromMs: number; toMs: number; atMs: number; onChange: (ms: number) => void; mismatches: ReportMismatch[] }) {
+  const starts = useMemo(() => [...new Set(mismatches.map((m) => m.startMs))].sort((a, b) => a - b), [mismatches]);
+  const next = starts.find((s) => s > atMs);
+  const previous = [...starts].reverse().find((s) => s < atMs);
+  return (
+    <div className="flex flex-wrap items-center gap-3">
+      <label className="flex flex-1 items-center gap-3 text-sm font-semibold">
+        Instant
+        <input
+          type="range"
+          min={fromMs}
+          max={Math.max(fromMs + 1, toMs)}
+          step={10}
+          value={atMs}
+          onChange={(e) => onChange(Number(e.target.value))}
+          className="min-w-48 flex-1 accent-amber"
+          aria-valuetext={clock(atMs)}
+        />
+      </label>
+      <output className="font-mono text-sm" aria-label="Instant shown">
+        {clock(atMs)}
+      </output>
+      <button type="button" className="rounded-md border border-rule bg-card px-2.5 py-1 text-sm disabled:opacity-40" disabled={previous === undefined} onClick={() => previous !== undefined && onChange(previous)}>
+        ‹ Previous mismatch
+      </button>
+      <button type="button" className="rounded-md border border-rule bg-card px-2.5 py-1 text-sm disabled:opacity-40" disabled={next === undefined} onClick={() => next !== undefined && onChange(next)}>
+        Next mismatch ›
+      </button>
+    </div>
+  );
+}
+
+function CoverageCard({ view }: { view: RunExpectedView }) {
+  const gaps = view.panels.flatMap((p) => p.coverageGaps.map((g) => ({ ...g, panelName: p.name })));
+  return (
+    <Card title="Coverage gaps">
+      {gaps.length === 0 ? (
+        <p className="text-sm text-ink-soft">The recording exercised every state and range of every element.</p>
+      ) : (
+        <>
+          <p className="mb-3 text-sm text-ink-soft">What the recording never made these elements show, so this run could not test it, and a step a scenario could add.</p>
+          <ul className="flex flex-col gap-2 text-sm" aria-label="Coverage gaps">
+            {gaps.map((g, i) => (
+              <li key={`${g.panelId}-${g.elementId}-${i}`} className="rounded-md border border-rule/70 px-3 py-2" data-testid={`coverage-gap-${g.elementId}`}>
+                <span className="font-mono" aria-hidden="true">
+                  ○{" "}
+                </span>
+                <strong>{g.gap}</strong>
+                {view.panels.length > 1 && <span className="text-ink-soft"> ({g.panelName})</span>}
+                {g.suggestion && <span className="block text-ink-soft">→ {g.suggestion}</span>}
+              </li>
+            ))}
+          </ul>
+        </>
+      )}
+    </Card>
+  );
+}
+
+function TracesCard({ report, source, atMs, fromMs, toMs, onSeek }: { report: RunReportView; source: ReportSource; atMs: number; fromMs: number; toMs: number; onSeek: (ms: number) => void }) {
+  const pointers = report.panels.flatMap((p) => p.elements.filter((e) => e.kind === "pointer").map((e) => ({ panelId: p.panelId, elementId: e.elementId, label: report.panels.length > 1 ? `${e.label} (${p.name})` : e.label, status: e.status })));
+  const firstFailing = pointers.find((p) => p.status === "fail") ?? pointers[0];
+  const [chosen, setChosen] = useState<string | null>(null);
+  const key = chosen ?? (firstFailing ? elementKey(firstFailing.panelId, firstFailing.elementId) : null);
+  const pointer = pointers.find((p) => elementKey(p.panelId, p.elementId) === key);
+  if (pointers.length === 0) return null;
+  return (
+    <Card title="A pointer's traces">
+      <label className="mb-3 flex items-center gap-2 text-sm font-semibold">
+        Pointer
+        <select value={key ?? ""} onChange={(e) => setChosen(e.target.value)} className="rounded-md border border-rule bg-card px-2 py-1.5 font-normal">
+          {pointers.map((p) => (
+            <option key={elementKey(p.panelId, p.elementId)} value={elementKey(p.panelId, p.elementId)}>
+              {p.label} {p.status === "fail" ? "(✕ failed)" : ""}
+            </option>
+          ))}
+        </select>
+      </label>
+      {pointer && <PointerTraces source={source} panelId={pointer.panelId} elementId={pointer.elementId} atMs={atMs} fromMs={fromMs} toMs={toMs} onSeek={onSeek} />}
+    </Card>
   );
 }

@@ -1,5 +1,5 @@
 import { useEffect, useRef, useState } from "react";
-import { watcherMessage, type MismatchView, type RunDetail, type WatcherMessage } from "../../../shared/api/runs";
+import { watcherMessage, type ChecksView, type MismatchView, type RunDetail, type WatcherMessage } from "../../../shared/api/runs";
 
 export type LiveMismatch = Omit<MismatchView, "id"> & { id?: string };
 type Player = Extract<WatcherMessage, { type: "player" }>;
@@ -10,6 +10,8 @@ export interface LiveRun {
   statuses: Record<string, string>;
   links: Record<string, LinkStatus>;
   mismatches: LiveMismatch[];
+  /** Set-up check, input walk, observation checkpoints: as the last watcher message (or the detail) told. */
+  checks: ChecksView | null;
   error: string | null;
   socket: "connecting" | "open" | "closed";
 }
@@ -29,7 +31,7 @@ export function mergeMismatches(into: LiveMismatch[], more: LiveMismatch[]): Liv
  * into the player state, element statuses, link states and mismatches.
  */
 export function useLiveRun(runId: string, detail: RunDetail | undefined, stored: MismatchView[] | undefined): LiveRun {
-  const [live, setLive] = useState<LiveRun>({ player: null, statuses: {}, links: {}, mismatches: [], error: null, socket: "connecting" });
+  const [live, setLive] = useState<LiveRun>({ player: null, statuses: {}, links: {}, mismatches: [], checks: null, error: null, socket: "connecting" });
   const seeded = useRef(false);
 
   useEffect(() => {
@@ -44,6 +46,7 @@ export function useLiveRun(runId: string, detail: RunDetail | undefined, stored:
     }
     setLive((l) => ({
       ...l,
+      checks: l.checks ?? detail.checks ?? null,
       player: l.player ?? { type: "player", state: detail.state, positionMs: detail.positionMs, speed: detail.speed, durationMs: detail.durationMs },
       statuses: { ...Object.fromEntries(detail.elements.map((e) => [elementKey(e.panelId, e.elementId), e.status])), ...l.statuses },
       links: { ...Object.fromEntries(detail.links.map((k) => [k.panelId, k])), ...l.links },
@@ -81,6 +84,8 @@ export function useLiveRun(runId: string, detail: RunDetail | undefined, stored:
             return { ...l, mismatches: mergeMismatches(l.mismatches, [m.mismatch]) };
           case "error":
             return { ...l, error: m.message };
+          case "checks":
+            return { ...l, checks: m.checks };
         }
       });
     };

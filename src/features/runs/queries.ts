@@ -1,6 +1,9 @@
-import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { useMutation, useQueries, useQuery, useQueryClient } from "@tanstack/react-query";
+import type { PanelDetail } from "../../../shared/api/panels";
+import { panelKeys } from "../panels/queries";
 import type { z } from "zod";
-import type { CreateRunBody, MismatchView, RunDetail, RunSummary, createdShareView, shareView } from "../../../shared/api/runs";
+import type { CreateRunBody, MismatchView, RunChecksBody, RunDetail, RunSummary, createdShareView, shareView } from "../../../shared/api/runs";
+import type { Fault } from "../../../shared/virtual/faults";
 import { api } from "../../lib/api";
 
 /**
@@ -48,7 +51,8 @@ export function useCreateRun(workshopId: string) {
 }
 
 export type ControlAction =
-  | { action: "play" }
+  | { action: "play"; override?: boolean }
+  | { action: "loop"; loop: { fromMs: number; toMs: number } | null }
   | { action: "pause" }
   | { action: "step" }
   | { action: "stop" }
@@ -59,6 +63,31 @@ export function useControlRun(workshopId: string, runId: string) {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (body: ControlAction) => api.post<RunDetail>(`${base(workshopId)}/${runId}/control`, body),
+    onSuccess: (detail) => qc.setQueryData(runKeys.detail(workshopId, runId), detail),
+  });
+}
+
+/** Several panels' details at once (the run's panels), under the panels' own keys. */
+export function useRunPanels(workshopId: string, panelIds: readonly string[]) {
+  return useQueries({
+    queries: panelIds.map((panelId) => ({ queryKey: panelKeys.detail(workshopId, panelId), queryFn: () => api.get<PanelDetail>(`/workshops/${workshopId}/panels/${panelId}`) })),
+  });
+}
+
+/** POST .../checks: input walk (start, skip, cancel), observed elements, answers at checkpoints. */
+export function useRunChecks(workshopId: string, runId: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (body: RunChecksBody) => api.post<RunDetail>(`${base(workshopId)}/${runId}/checks`, body),
+    onSuccess: (detail) => qc.setQueryData(runKeys.detail(workshopId, runId), detail),
+  });
+}
+
+/** PUT .../links/:panelId/faults: a virtual link's injected faults, changed while the run is open. */
+export function useLinkFaults(workshopId: string, runId: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: ({ panelId, faults }: { panelId: string; faults: Fault[] }) => api.put<RunDetail>(`${base(workshopId)}/${runId}/links/${panelId}/faults`, { faults }),
     onSuccess: (detail) => qc.setQueryData(runKeys.detail(workshopId, runId), detail),
   });
 }

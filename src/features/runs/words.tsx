@@ -44,7 +44,18 @@ export const MISMATCH_WORDS: Record<string, string> = {
   wrong_value: "wrong value",
   late: "late",
   unexpected_input: "unexpected input",
+  observed: "observed (answered no)",
 };
+
+/** Input walk results in words, each with a mark of its own shape. */
+export const WALK_WORDS: Record<string, string> = {
+  pass: "● pass",
+  wrong_position: "✕ wrong position",
+  timeout: "◌ no answer in time",
+  skipped: "○ skipped",
+};
+
+export const ANSWER_WORDS: Record<string, string> = { yes: "● yes", no: "✕ no", skip: "○ skipped" };
 
 export const FAULT_WORDS: Record<string, string> = {
   lamp_stuck: "lamp stuck",

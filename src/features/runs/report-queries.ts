@@ -1,0 +1,55 @@
+import { useMutation, useQuery } from "@tanstack/react-query";
+import type { EmailReportAnswer, EmailReportBody, PanelRunHistoryRow, PointerTracesView, RunComparisonView, RunExpectedView } from "../../../shared/api/run-reports";
+import { api } from "../../lib/api";
+import { runKeys } from "./queries";
+
+/**
+ * Server data for the report side of runs (shared/api/run-reports.ts): the report page's drawings,
+ * history, comparison and e-mail. The report page is read by members and by share links alike,
+ * so its views take a `ReportSource` that says which door to use.
+ */
+export type ReportSource = { kind: "workshop"; workshopId: string; runId: string } | { kind: "shared"; token: string };
+
+const sourcePath = (s: ReportSource) => (s.kind === "workshop" ? `/workshops/${s.workshopId}/runs/${s.runId}` : `/shared/${encodeURIComponent(s.token)}`);
+const sourceKey = (s: ReportSource) => (s.kind === "workshop" ? runKeys.detail(s.workshopId, s.runId) : runKeys.shared(s.token));
+
+/** Expected timelines, definitions and coverage gaps of every panel of the run (computed once per run). */
+export function useRunExpected(source: ReportSource) {
+  return useQuery({
+    queryKey: [...sourceKey(source), "expected"],
+    queryFn: () => api.get<RunExpectedView>(`${sourcePath(source)}/expected`),
+    staleTime: Infinity,
+    retry: false,
+  });
+}
+
+/** One pointer's expected and seen angles. */
+export function usePointerTraces(source: ReportSource, panelId: string | null, elementId: string | null) {
+  return useQuery({
+    queryKey: [...sourceKey(source), "traces", panelId, elementId],
+    queryFn: () => api.get<PointerTracesView>(`${sourcePath(source)}/traces?panelId=${encodeURIComponent(panelId!)}&elementId=${encodeURIComponent(elementId!)}`),
+    enabled: Boolean(panelId && elementId),
+    staleTime: Infinity,
+  });
+}
+
+export function usePanelRunHistory(workshopId: string, panelId: string | null) {
+  return useQuery({
+    queryKey: ["workshops", workshopId, "panels", panelId, "run-history"],
+    queryFn: () => api.get<PanelRunHistoryRow[]>(`/workshops/${workshopId}/panels/${panelId}/run-history`),
+    enabled: Boolean(panelId),
+    refetchOnMount: "always",
+  });
+}
+
+export function useRunComparison(workshopId: string, runId: string, otherRunId: string) {
+  return useQuery({
+    queryKey: [...runKeys.detail(workshopId, runId), "compare", otherRunId],
+    queryFn: () => api.get<RunComparisonView>(`/workshops/${workshopId}/runs/${runId}/compare/${otherRunId}`),
+    retry: false,
+  });
+}
+
+export function useEmailReport(workshopId: string, runId: string) {
+  return useMutation({ mutationFn: (body: EmailReportBody) => api.post<EmailReportAnswer>(`/workshops/${workshopId}/runs/${runId}/email`, body) });
+}
