@@ -583,6 +583,8 @@ export class RunSession {
       const live = p.judge.liveMismatches();
       for (let i = p.liveMismatches; i < live.length; i++) this.announceMismatch(p, live[i]);
       p.liveMismatches = live.length;
+      // A mismatch still open (a lamp stuck dark to the end) marks its element at once.
+      for (const elementId of p.judge.failingNow(p.advancedTo)) this.announceFailing(p, elementId);
     }
     const wall = performance.now();
     if (wall - this.lastPlayerBroadcast > 250) this.broadcastPlayer();
@@ -594,10 +596,13 @@ export class RunSession {
       type: "mismatch",
       mismatch: { panelId: p.snapshot.panelId, elementId: m.elementId, track: m.track, kind: m.kind, startMs: m.startMs, endMs: m.endMs, worstError: m.worstError, expected: m.expected, seen: m.seen, atMs: m.atMs },
     });
-    if (!p.failing.has(m.elementId)) {
-      p.failing.add(m.elementId);
-      this.deps.broadcast(this.runId, { type: "element", panelId: p.snapshot.panelId, elementId: m.elementId, status: "fail" });
-    }
+    this.announceFailing(p, m.elementId);
+  }
+
+  private announceFailing(p: SessionPanel, elementId: string) {
+    if (p.failing.has(elementId)) return;
+    p.failing.add(elementId);
+    this.deps.broadcast(this.runId, { type: "element", panelId: p.snapshot.panelId, elementId, status: "fail" });
   }
 
   private broadcastPlayer() {

@@ -248,6 +248,11 @@ export class AngleTrackJudge {
     return this.sweep.take();
   }
 
+  /** An open interval at `t` already longer than the lag budget (see MismatchSweep.failingAt). */
+  failingAt(t: number): boolean {
+    return this.sweep.failingAt(t);
+  }
+
   get noDataMs() {
     return this.sweep.noDataMs;
   }

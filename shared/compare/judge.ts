@@ -119,6 +119,11 @@ export class ElementJudge {
     for (const j of [this.lamp, this.text, this.breaker, this.position, this.angle]) if (j) this.mismatches.push(...j.take());
   }
 
+  /** Failing already at `t` (the last advance) although no mismatch has closed yet: for live display. */
+  failingAt(t: number): boolean {
+    return [this.lamp, this.text, this.breaker, this.position, this.angle].some((j) => j?.failingAt(t) ?? false);
+  }
+
   /** Mismatches settled so far (for live display), without removing them. */
   get settled(): readonly Mismatch[] {
     return this.mismatches;
@@ -210,6 +215,13 @@ export class RunJudge {
 
   advance(t: number) {
     for (const { judge } of this.judges.values()) judge.advance(t);
+  }
+
+  /** Elements whose current mismatch has outlasted the lag budget at `t` but not closed yet. */
+  failingNow(t: number): string[] {
+    const out: string[] = [];
+    for (const [id, { judge, placeholder }] of this.judges) if (!placeholder && judge.failingAt(t)) out.push(id);
+    return out;
   }
 
   liveMismatches(): Mismatch[] {

@@ -81,6 +81,15 @@ export class MismatchSweep {
     });
   }
 
+  /**
+   * True when an interval still open at `t` has already lasted longer than the lag budget: it
+   * will be a mismatch however it ends, so a live view can mark the element failing now rather
+   * than when the panel finally agrees (a lamp stuck dark to the end never would).
+   */
+  failingAt(t: number): boolean {
+    return this.open !== null && t - this.open.start > this.lagBudgetMs;
+  }
+
   /** Mismatches finished so far, removed from the sweep. */
   take(): Mismatch[] {
     return this.done.splice(0);

@@ -249,3 +249,30 @@ describe("lag percentiles", () => {
     );
   });
 });
+
+describe("live marking of a mismatch that has not ended", () => {
+  it("a lamp stuck dark to the end fails live once it outlasts the lag budget, before any mismatch closes", () => {
+    const stuckTimeline: ExpectedTimelines = { panelId: "p", startMs: 0, endMs: 5000, elements: [lampTimeline([{ t: 0, shows: OFF }, { t: 1000, shows: ON }])] };
+    const judge = new RunJudge(stuckTimeline, () => TOL);
+    judge.addSeen("fire-lamp", { t: 10, shows: { track: "lamp", lamp: OFF } });
+    judge.advance(1000 + TOL.lagBudgetMs); // exactly the budget: not yet
+    expect(judge.failingNow(1000 + TOL.lagBudgetMs)).toEqual([]);
+    judge.advance(1400);
+    expect(judge.failingNow(1400)).toEqual(["fire-lamp"]);
+    expect(judge.liveMismatches()).toEqual([]);
+    // The final judgement agrees: one wrong-value mismatch from 1000 to the end.
+    const done = judge.finish(5000);
+    expect(done.mismatches).toMatchObject([{ elementId: "fire-lamp", kind: "wrong_value", startMs: 1000, endMs: 5000 }]);
+  });
+
+  it("a needle that catches up within the budget is never marked", () => {
+    const tl: ElementTimeline = { id: "needle", kind: "pointer", label: "needle", placeholder: false, tracks: {}, angle: { t: [0, 1000, 1001], angle: [0, 0, 90], wrap: false } };
+    const judge = new RunJudge({ panelId: "p", startMs: 0, endMs: 3000, elements: [tl] }, () => TOL);
+    judge.addSeen("needle", { t: 0, shows: { track: "angle", angle: 0 } });
+    judge.addSeen("needle", { t: 1100, shows: { track: "angle", angle: 90 } });
+    for (let t = 0; t <= 3000; t += 50) {
+      judge.advance(t);
+      expect(judge.failingNow(t)).toEqual([]);
+    }
+  });
+});
