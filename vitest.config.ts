@@ -9,8 +9,10 @@ import { defineConfig } from "vitest/config";
  */
 export const TIMING_SENSITIVE = [
   "tests/integration/firmware-avr.test.ts",
+  "tests/integration/firmware-run.test.ts",
   "tests/integration/runs.test.ts",
   "tests/integration/runs-cli.test.ts",
+  "tests/integration/runs-transport.test.ts",
   "tests/integration/rs485-bus.test.ts",
   "tests/integration/replay-scheduler.test.ts",
 ];

@@ -10,7 +10,7 @@ row() {
 }
 row "bench-panel example" "$BUILD/avr/panel/bench-panel.elf"
 row "bench-panel, one lamp inverted (fault)" "$BUILD/avr/fault/bench-panel.elf"
-row "bench-panel, 40 channels (benchmark)" "$BUILD/avr/wide/bench-panel.elf"
+row "bench-panel, 40 elements (benchmark)" "$BUILD/avr/wide/bench-panel.elf"
 set -- $(sizes "$BUILD/avr/probe/probe.elf")
 P_FLASH=$(($1 + $2)); P_RAM=$(($2 + $3))
 set -- $(sizes "$BUILD/avr/probe/empty.elf")

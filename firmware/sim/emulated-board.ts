@@ -56,7 +56,29 @@ export interface HarnessState {
   rises: number;
   /** The eight digits as the MAX7219 holds them. */
   readout: string;
+  /** How far emulated time is behind the wall clock now (0: keeping up), and the most it ever was. */
   behindMs: number;
+  worstBehindMs: number;
+}
+
+/** Every emulated cycle since power-up by where the CPU spent it (panel-sim's `cpu` answer). */
+export interface CpuAccount {
+  cycles: number;
+  /** The main program outside the library's marked sections: the loop going round, the panel's own ticks. */
+  idle: number;
+  receive: number;
+  frame: number;
+  follow: number;
+  encode: number;
+  write: number;
+  scan: number;
+  other: number;
+  isr_uart_rx: number;
+  isr_uart_udre: number;
+  isr_uart_tx: number;
+  isr_timer0: number;
+  isr_timer1: number;
+  isr_other: number;
 }
 
 export interface ArrivedFrame {
@@ -72,15 +94,28 @@ export class EmulatedBoard {
   readonly seen = new Map<number, SeenEntry>();
   private sequence = 0;
   private stateWaiters: ((line: string) => void)[] = [];
+  private cpuWaiters: ((line: string) => void)[] = [];
   private waiters: (() => void)[] = [];
 
   private constructor(
     private readonly child: ChildProcess,
-    readonly transport: ByteTransport,
+    private readonly link: ByteTransport | null,
     readonly ptyPath: string,
+    private readonly countsCycles: boolean,
   ) {}
 
-  static async start(variant: FirmwareVariant, options: { cycles?: boolean } = {}): Promise<EmulatedBoard> {
+  /** Our own serial link to the board; absent when the bench holds the port (`ownLink: false`). */
+  get transport(): ByteTransport {
+    if (!this.link) throw new Error("this board's port belongs to the bench (started with ownLink: false)");
+    return this.link;
+  }
+
+  /**
+   * Starts the emulated board. By default it opens the pty itself (frames, seen, send); with
+   * `ownLink: false` it leaves the pty to someone else, such as the bench in a serial run, and
+   * powers up at once: only the pins (`state`, `setPin`) and the cycle counter (`cpu`) are ours.
+   */
+  static async start(variant: FirmwareVariant, options: { cycles?: boolean; ownLink?: boolean } = {}): Promise<EmulatedBoard> {
     const elf = path.join(FIRMWARE_DIR, "build/avr", variant, "bench-panel.elf");
     const sim = path.join(FIRMWARE_DIR, "build/sim/panel-sim");
     const child = spawn(sim, ["--hold", ...(options.cycles ? ["--cycles"] : []), elf], { stdio: ["pipe", "pipe", "inherit"] });
@@ -97,8 +132,13 @@ export class EmulatedBoard {
         } else board?.onLine(line);
       });
     });
+    if (options.ownLink === false) {
+      board = new EmulatedBoard(child, null, ptyPath, Boolean(options.cycles));
+      child.stdin!.write("start\n");
+      return board;
+    }
     const transport = await openSerialTransport(ptyPath, 115_200);
-    board = new EmulatedBoard(child, transport, ptyPath);
+    board = new EmulatedBoard(child, transport, ptyPath, Boolean(options.cycles));
     const decoder = new LinkStreamDecoder({ acceptFrom: "device" });
     transport.onData((chunk) => {
       const at = performance.now();
@@ -115,6 +155,9 @@ export class EmulatedBoard {
   private onLine(line: string) {
     if (line.startsWith("state ")) {
       const waiter = this.stateWaiters.shift();
+      waiter?.(line);
+    } else if (line.startsWith("cpu ")) {
+      const waiter = this.cpuWaiters.shift();
       waiter?.(line);
     } else if (line.startsWith("cycles ")) {
       const n = (key: string) => Number(new RegExp(`${key}=(\\w+)`).exec(line)?.[1] ?? 0);
@@ -175,7 +218,23 @@ export class EmulatedBoard {
       this.child.stdin!.write("state\n");
     });
     const n = (key: string) => Number(new RegExp(`${key}=(0x[0-9a-f]+|-?\\d+)`).exec(line)?.[1]);
-    return { ms: n("ms"), lamps: n("lamps"), trip: n("trip"), steps: n("steps"), rises: n("rises"), readout: /readout="(.{8})"/.exec(line)?.[1] ?? "", behindMs: n("behind") };
+    return { ms: n("ms"), lamps: n("lamps"), trip: n("trip"), steps: n("steps"), rises: n("rises"), readout: /readout="(.{8})"/.exec(line)?.[1] ?? "", behindMs: n("behind"), worstBehindMs: n("worst") };
+  }
+
+  /** Where every emulated cycle since power-up went (exact, from the emulator's cycle counter; needs `cycles: true`). */
+  async cpu(): Promise<CpuAccount> {
+    if (!this.countsCycles) throw new Error("start the board with { cycles: true } to count where the cycles go");
+    const line = await new Promise<string>((resolve, reject) => {
+      const timer = setTimeout(() => reject(new Error("panel-sim did not answer 'cpu'")), 3000);
+      this.cpuWaiters.push((l) => {
+        clearTimeout(timer);
+        resolve(l);
+      });
+      this.child.stdin!.write("cpu\n");
+    });
+    const account: Record<string, number> = {};
+    for (const [, key, value] of line.matchAll(/(\w+)=(\d+)/g)) account[key] = Number(value);
+    return account as unknown as CpuAccount;
   }
 
   /** Drives an input pin as a switch contact would: "C0" low = closed. */
@@ -184,7 +243,7 @@ export class EmulatedBoard {
   }
 
   async stop(): Promise<void> {
-    await this.transport.close();
+    await this.link?.close();
     if (this.child.exitCode === null) {
       this.child.stdin!.write("quit\n");
       await Promise.race([new Promise((r) => this.child.once("exit", r)), new Promise((r) => setTimeout(r, 2000))]);

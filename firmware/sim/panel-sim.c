@@ -10,13 +10,23 @@
 // gauge needle has), and the MAX7219 readout decoded from its bit-banged serial lines.
 //
 // stdin commands, one per line:
-//   state          -> "state ms=.. lamps=0x.. trip=.. steps=.. rises=.. dir=.. readout="........" behind=.."
+//   state          -> "state ms=.. lamps=0x.. trip=.. steps=.. rises=.. dir=.. readout="........" behind=.. worst=.."
+//                     (behind: ms the emulator is behind the wall clock now; worst: the most so far)
 //   set C0 1       -> drive input pin PC0 high (1) or low (0): switches and the breaker
 //   start          -> with --hold, power the board up (before it, the pty exists but the CPU waits)
+//   cpu            -> (with --cycles) "cpu cycles=.. idle=.. receive=.. frame=.. follow=.. encode=.. write=.. scan=..
+//                      isr_uart_rx=.. isr_uart_udre=.. isr_uart_tx=.. isr_timer0=.. isr_timer1=.. isr_other=.."
+//                     every cycle since power-up, by where the CPU spent it (cumulative; take two
+//                     readings and subtract for a window)
 //   quit
 // With --cycles, every frame the firmware sends prints the exact cycles it spent per section
 // since the last one ("cycles type=82 receive=.. frame=.. follow=.. encode=.. write=.."), from
 // the marker registers GPIOR0/GPIOR1 the library writes (firmware/src/pp_marks.h).
+//
+// Interrupts are told apart from the code they interrupt: when the CPU arrives at a vector the
+// cycles go to that interrupt until its RETI pops the stack back past the entry frame, so the
+// Arduino core's UART interrupts (which no marker can reach) are counted exactly, and never
+// inside a marked section.
 #define _GNU_SOURCE
 #include <errno.h>
 #include <fcntl.h>
@@ -42,8 +52,18 @@
 #define PORTB_ADDR 0x25
 #define GPIOR0_ADDR 0x3e  // I/O 0x1e
 #define GPIOR1_ADDR 0x4a  // I/O 0x2a
-#define SERVICE_CYCLES 1600  // look at the pty, stdin and the clock every 100 us of emulated time
+#define SERVICE_CYCLES 3200  // look at the pty, stdin and the clock every 200 us of emulated time (UART FIFO: 64 bytes)
 #define NEEDLE_STOP_MAX 900  // steps: the far stop, past full scale
+#define SPL_ADDR 0x5d  // stack pointer, I/O 0x3d/0x3e
+#define SPH_ADDR 0x5e
+// The ATmega2560's 57 vectors are two-word JMPs at byte address 4 x number (datasheet, "Interrupts",
+// vector table; avr-libc's iomxx0_1.h has the numbers).
+#define VECTOR_COUNT 57
+#define VEC_TIMER1_COMPA 17
+#define VEC_TIMER0_OVF 23
+#define VEC_USART0_RX 25
+#define VEC_USART0_UDRE 26
+#define VEC_USART0_TX 27
 
 static avr_t* avr;
 static int master = -1;
@@ -61,11 +81,15 @@ static uint8_t maxDigits[9] = {0, 15, 15, 15, 15, 15, 15, 15, 15};  // digit reg
 static uint8_t maxDecode;
 static uint8_t prevPortA, prevPortB;
 
-static int printCycles;
+static int printCycles;  // --cycles: count interrupts apart and print sections per frame sent
 static unsigned markSection;
 static avr_cycle_count_t markSince;
-static unsigned long long markSums[8];
-static unsigned long behindMs;
+static unsigned long long markSums[8];   // per section since the last frame sent (--cycles lines)
+static unsigned long long sectionTotals[8];  // per section since power-up, interrupts excluded
+static unsigned long long isrTotals[VECTOR_COUNT];
+static struct { uint8_t vector; uint16_t sp; } isrStack[8];
+static int isrDepth;
+static unsigned long behindMs, worstBehindMs;  // now, and the most since power-up
 static uint8_t externalMask[26], externalValue[26];  // what the outside world holds on input pins
 
 static void uartOutput(avr_irq_t* irq, uint32_t value, void* param) {
@@ -102,11 +126,42 @@ static void portBWrite(struct avr_t* a, avr_io_addr_t addr, uint8_t v, void* par
   prevPortB = v;
 }
 
+// Cycles since the last account go to what the CPU was doing: the innermost interrupt, or the
+// main program's current marked section.
+static void account(avr_cycle_count_t now) {
+  const unsigned long long spent = now - markSince;
+  if (isrDepth) {
+    isrTotals[isrStack[isrDepth - 1].vector] += spent;
+  } else {
+    markSums[markSection & 7] += spent;
+    sectionTotals[markSection & 7] += spent;
+  }
+  markSince = now;
+}
+
+// After each instruction: did an interrupt return (the stack is back above its entry frame), or
+// did the CPU just arrive at a vector? `before` is the cycle count before the instruction, so
+// the instruction that was interrupted and the five-cycle entry both count to the interrupt:
+// at most a couple of cycles too many, never too few.
+static void watchInterrupts(avr_cycle_count_t before) {
+  const uint16_t sp = (uint16_t)(avr->data[SPL_ADDR] | (avr->data[SPH_ADDR] << 8));
+  while (isrDepth && sp > isrStack[isrDepth - 1].sp) {
+    account(avr->cycle);
+    isrDepth--;
+  }
+  const uint32_t pc = avr->pc;
+  if (pc && pc < VECTOR_COUNT * 4 && (pc & 3) == 0 && isrDepth < 8) {
+    account(before);
+    isrStack[isrDepth].vector = (uint8_t)(pc / 4);
+    isrStack[isrDepth].sp = sp;
+    isrDepth++;
+  }
+}
+
 static void markWrite(struct avr_t* a, avr_io_addr_t addr, uint8_t v, void* param) {
   (void)param;
   a->data[addr] = v;
-  markSums[markSection & 7] += a->cycle - markSince;
-  markSince = a->cycle;
+  account(a->cycle);
   if (addr == GPIOR0_ADDR) {
     markSection = v & 7;
     return;
@@ -151,12 +206,24 @@ static void command(char* line) {
   if (strncmp(line, "state", 5) == 0) {
     char text[9];
     const uint8_t outputs = avr->data[PORTA_ADDR] & avr->data[DDRA_ADDR];
-    printf("state ms=%llu lamps=0x%x trip=%d steps=%ld rises=%lu dir=%d readout=\"%s\" behind=%lu\n",
+    printf("state ms=%llu lamps=0x%x trip=%d steps=%ld rises=%lu dir=%d readout=\"%s\" behind=%lu worst=%lu\n",
            (unsigned long long)(avr->cycle / (F_CPU / 1000)), outputs & 0x07, (outputs >> 3) & 1, needle, rises,
-           (outputs >> 5) & 1, readoutText(text), behindMs);
+           (outputs >> 5) & 1, readoutText(text), behindMs, worstBehindMs);
   } else if (sscanf(line, "set %c%d %d", &port, &bit, &level) == 3 && port >= 'A' && port <= 'L' && bit >= 0 && bit < 8) {
     holdPin(port, bit, level);
     printf("ok set %c%d %d\n", port, bit, level ? 1 : 0);
+  } else if (strncmp(line, "cpu", 3) == 0 && !printCycles) {
+    printf("error cpu needs --cycles (interrupts are only told apart then)\n");
+  } else if (strncmp(line, "cpu", 3) == 0) {
+    account(avr->cycle);
+    unsigned long long other = 0;
+    for (int v = 0; v < VECTOR_COUNT; v++)
+      if (v != VEC_USART0_RX && v != VEC_USART0_UDRE && v != VEC_USART0_TX && v != VEC_TIMER0_OVF && v != VEC_TIMER1_COMPA) other += isrTotals[v];
+    printf("cpu cycles=%llu idle=%llu receive=%llu frame=%llu follow=%llu encode=%llu write=%llu scan=%llu other=%llu "
+           "isr_uart_rx=%llu isr_uart_udre=%llu isr_uart_tx=%llu isr_timer0=%llu isr_timer1=%llu isr_other=%llu\n",
+           (unsigned long long)avr->cycle, sectionTotals[0], sectionTotals[1], sectionTotals[2], sectionTotals[3],
+           sectionTotals[4], sectionTotals[5], sectionTotals[6], sectionTotals[7], isrTotals[VEC_USART0_RX],
+           isrTotals[VEC_USART0_UDRE], isrTotals[VEC_USART0_TX], isrTotals[VEC_TIMER0_OVF], isrTotals[VEC_TIMER1_COMPA], other);
   } else if (strncmp(line, "quit", 4) == 0) {
     exit(0);
   } else {
@@ -187,9 +254,12 @@ static void service(uint64_t startNs) {
   static char line[256];
   static size_t lineLen;
   struct pollfd p = {.fd = 0, .events = POLLIN};
-  while (poll(&p, 1, 0) > 0 && (p.revents & POLLIN)) {
+  while (poll(&p, 1, 0) > 0) {
+    // stdin closed (a pipe whose writer is gone reports POLLHUP, not always POLLIN): the test is
+    // gone, and a board left running would spin a core for nobody.
+    if (!(p.revents & POLLIN)) exit(0);
     char c;
-    if (read(0, &c, 1) != 1) exit(0);  // stdin closed: the test is gone
+    if (read(0, &c, 1) != 1) exit(0);
     if (c == '\n') {
       line[lineLen] = 0;
       command(line);
@@ -205,7 +275,11 @@ static void service(uint64_t startNs) {
     struct timespec t = {.tv_sec = 0, .tv_nsec = (long)(emulated - wall)};
     nanosleep(&t, NULL);
   } else if (wall > emulated + 1000000) {
+    // Behind (the machine is busy): run flat out until caught up.
     behindMs = (unsigned long)((wall - emulated) / 1000000);
+    if (behindMs > worstBehindMs) worstBehindMs = behindMs;
+  } else {
+    behindMs = 0;
   }
 }
 
@@ -290,8 +364,12 @@ int main(int argc, char** argv) {
 
   const uint64_t start = nowNs();
   avr_cycle_count_t nextService = 0;
+  markSince = avr->cycle;
   for (;;) {
+    const avr_cycle_count_t before = avr->cycle;
     const int state = avr_run(avr);
+    // Watching for interrupts costs the emulator a good part of its speed: only when counting.
+    if (printCycles) watchInterrupts(before);
     if (state == cpu_Done || state == cpu_Crashed) {
       printf("stopped %s at cycle %llu\n", state == cpu_Done ? "done" : "crashed", (unsigned long long)avr->cycle);
       return 1;

@@ -577,11 +577,13 @@ void LinkDevice::update() {
     enqueue(KindHeartbeat);
   }
   if ((uint32_t)(now - lastScanMs_) >= config_.scanMs) {
+    PP_MARK(PP_MARK_SCAN);
     lastScanMs_ = now;
     if (inputCount_ && !queued(KindInputs) && anyInputChanged()) enqueue(KindInputs);
     // A bus device reports changes in its answers; a direct one says so when they happen
     // (a pointer still moving, a lamp flashing), at most once per scan.
     if (!bus() && !queued(KindSeen) && anyElementChanged()) enqueue(KindSeen);
+    PP_MARK(PP_MARK_IDLE);
   }
   if (bus()) {
     if (txLength_) {

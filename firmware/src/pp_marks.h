@@ -11,6 +11,7 @@
 #define PP_MARK_FOLLOW 3   // the panel driving its outputs toward new values (sketch code)
 #define PP_MARK_ENCODE 4   // a seen report: asking the panel what it shows, building, CRC, COBS
 #define PP_MARK_WRITE 5    // handing the wire bytes to the port
+#define PP_MARK_SCAN 6     // the periodic look for changes (inputs, a moving needle) and the heartbeat
 
 #if defined(PP_MARKERS) && PP_MARKERS && defined(__AVR__)
 #include <avr/io.h>

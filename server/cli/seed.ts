@@ -6,7 +6,7 @@ import { parseRecording } from "../../shared/recording/recording-file";
 import type { Database } from "../db/client";
 import { airframe, panel, recording } from "../db/schema";
 import { demoChannels, demoPanels } from "../../shared/panel/demo";
-import { checkPanelChannels } from "../../shared/panel";
+import { checkPanelChannels, parsePanel } from "../../shared/panel";
 import { RecordingWriter } from "../recordings/writer";
 import { storeScenario } from "../routes/recordings";
 import { createAuth } from "../auth/auth";
@@ -17,6 +17,17 @@ import { DEMO_PASSWORD, DEMO_PEOPLE, DEMO_WORKSHOP } from "./demo-data";
 const DEMO_SCENARIO = new URL("../../recordings/demo-engine-fire-drill.scenario.json", import.meta.url);
 const DEMO_RECORDING = new URL("../../recordings/demo-pattern-flight.ppr.jsonl", import.meta.url);
 const DEMO_FULL_CHECK = new URL("../../recordings/demo-full-panel-check.scenario.json", import.meta.url);
+// The firmware example's panel and the recording that moves all of it (issue 7): a builder with
+// the example flashed on a board can run it from the demo workshop.
+const BENCH_PANEL = new URL("../../firmware/examples/bench-panel/bench-panel.panel.json", import.meta.url);
+const BENCH_PANEL_CHECK = new URL("../../recordings/demo-bench-panel-check.scenario.json", import.meta.url);
+
+/** The firmware example's panel definition, checked by the shared schema like any other. */
+function benchPanel() {
+  const parsed = parsePanel(JSON.parse(readFileSync(BENCH_PANEL, "utf8")));
+  if (!parsed.ok) throw new Error(`firmware example panel: ${parsed.problems.map((p) => `${p.path}: ${p.message}`).join("; ")}`);
+  return parsed.panel;
+}
 
 /**
  * Loads the demo workshop: an invented club, its people and their roles.
@@ -138,7 +149,7 @@ async function seedPanels(db: Database, workshopId: string, airframeId: string, 
   if (missing.length) await db.update(airframe).set({ channels, updatedAt: new Date() }).where(eq(airframe.id, airframeId));
   const rows = await db.select({ id: panel.id, slug: panel.slug }).from(panel).where(eq(panel.workshopId, workshopId));
   const bySlug = new Map(rows.map((r) => [r.slug, r.id]));
-  for (const definition of demoPanels) {
+  for (const definition of [...demoPanels, benchPanel()]) {
     if (bySlug.has(definition.id)) continue;
     const problems = checkPanelChannels(definition, channels);
     if (problems.length) {
@@ -158,10 +169,12 @@ async function seedPanels(db: Database, workshopId: string, airframeId: string, 
  * it uses, are in the catalogue.
  */
 async function seedFullCheck(db: Database, workshopId: string, airframeId: string, ownerId: string) {
-  const scenario = JSON.parse(readFileSync(DEMO_FULL_CHECK, "utf8")) as { name: string };
-  const name = `${scenario.name} (generated)`;
-  const exists = await db.select({ id: recording.id }).from(recording).where(and(eq(recording.workshopId, workshopId), eq(recording.name, name)));
-  if (exists.length > 0) return;
-  const [frame] = await db.select().from(airframe).where(eq(airframe.id, airframeId));
-  await storeScenario({ db }, { workshopId, airframeId, catalogue: frame.channels, name, scenario, createdById: ownerId });
+  for (const file of [DEMO_FULL_CHECK, BENCH_PANEL_CHECK]) {
+    const scenario = JSON.parse(readFileSync(file, "utf8")) as { name: string };
+    const name = `${scenario.name} (generated)`;
+    const exists = await db.select({ id: recording.id }).from(recording).where(and(eq(recording.workshopId, workshopId), eq(recording.name, name)));
+    if (exists.length > 0) continue;
+    const [frame] = await db.select().from(airframe).where(eq(airframe.id, airframeId));
+    await storeScenario({ db }, { workshopId, airframeId, catalogue: frame.channels, name, scenario, createdById: ownerId });
+  }
 }

@@ -45,6 +45,8 @@ export interface VirtualPanelOptions {
 
 /** Frames kept for the behaviours; older ones are folded into a starting state. */
 const KEEP_FRAMES = 600;
+/** How often what changes with time (a needle still slewing) is reported without faults: a board's usual pace. */
+const MOVING_REPORT_MS = 50;
 /** Seen reports carry at most this many entries (a frame's payload limit with room to spare). */
 const MAX_ENTRIES_PER_REPORT = 30;
 
@@ -73,6 +75,7 @@ export class VirtualPanelDevice {
   private readonly held = new Map<string, HeldInput>();
   private readonly outgoing: Uint8Array[] = [];
   private sequence = 0x80;
+  private lastPeriodic = -Infinity;
 
   constructor(options: VirtualPanelOptions) {
     this.panel = options.panel;
@@ -299,14 +302,18 @@ export class VirtualPanelDevice {
   }
 
   /**
-   * For what changes with time rather than with updates (added lag, a slow or slipping needle)
-   * and for inputs moved by hand: a seen report of what changed since the last one, or null.
-   * Hosts call it every few tens of milliseconds.
+   * For what changes with time rather than with updates (a needle still slewing to its value,
+   * a spring-loaded switch returning; added lag, a slow or slipping needle) and for inputs moved
+   * by hand: a seen report of what changed since the last one, or null. Hosts call it every few
+   * tens of milliseconds; without time-based faults it looks at most every 50 ms.
    */
   periodic(): Uint8Array | null {
     if (this.started === null) return null;
     const timeBased = this.currentFaults.some((f) => f.kind === "added_lag" || f.kind === "pointer_slow" || f.kind === "missed_steps");
-    if (!timeBased && this.held.size === 0) return null;
+    // Needles keep moving between updates (slew limits, parking): a board reports them as they go.
+    const now = this.clock();
+    if (!timeBased && this.held.size === 0 && now - this.lastPeriodic < MOVING_REPORT_MS) return null;
+    this.lastPeriodic = now;
     const changed = this.entriesAt(this.deviceTime()).filter((e) => {
       const key = JSON.stringify(e);
       if (this.periodicReported.get(e.element) === key) return false;

@@ -2,28 +2,34 @@
 // bench over USB serial at 115,200 baud. A starting point for your own panels: replace the
 // channel and element tables and the pins, keep the shape.
 //
-// Channels (what the bench sends, in the panel definition's order):
-//   0 gear.unsafe        boolean   -> lamp GEAR UNSAFE
-//   1 fuel.low           boolean   -> lamp FUEL LOW
-//   2 caution.master     enum      -> lamp MASTER CAUTION: 0 off, 1 on, 2 flashing (boolean accepted too)
-//   3 lamps.test         boolean   -> every lamp on while true (lamp test)
-//   4 hyd.pressure_psi   number    -> pointer, 0..3000 psi over 0..270 degrees
-//   5 fuel.qty_lb        int/text  -> 8-digit seven-segment readout (MAX7219)
-//   6 breaker.tripped    boolean   -> the breaker's trip lamp
-//   7 panel.backlight    int       -> backlight level 0..255 (PWM)
+// Its panel definition is bench-panel.panel.json beside this file (the invented Marlin TX-2's
+// channels). The bench numbers channels in the order the definition's elements first bind them,
+// so the table below follows that order (docs/panel-format.md):
+//   0 gear.unsafe_lamp            boolean -> lamp GEAR UNSAFE
+//   1 annun.test                  boolean -> every lamp on while true (lamp test)
+//   2 annun.low_fuel_l            boolean -> lamp FUEL LOW
+//   3 annun.master_caution_lamp   enum    -> lamp MASTER CAUTION: 0 OFF, 1 STEADY, 2 FLASHING (boolean accepted too)
+//   4 hyd.pressure_psi            number  -> pointer, 0..3000 psi over 0..270 degrees
+//   5 fuel.qty_lb                 number/text -> 8-digit seven-segment readout (MAX7219), right-aligned
+//   6 elec.master                 the BATTERY switch's position as the aircraft has it (the hand sets the switch)
+//   7 lights.landing              the LANDING LIGHTS switch's position (likewise)
+//   8 cb.pitot_heat               boolean -> the breaker trips (its trip lamp, latched until pulled)
+//   9 cb.pulled.pitot_heat        the breaker pulled by hand (likewise)
+//  10 elec.panel_dimmer_pct       number 0..100 -> backlight level (PWM)
 // Elements (what the board reports it shows):
 //   0..2 the three lamps, 3 the pointer, 4 the readout, 5 switch BATTERY (off, on),
 //   6 switch LANDING LIGHTS (off, taxi, land), 7 the breaker (in, pulled, tripped), 8 backlight.
 // Inputs: the two switches and the breaker (pulling it), as position events.
 //
 // Build flags: PANEL_FAULT_INVERT_LAMP=1 wires FUEL LOW inverted in software (a deliberate fault
-// for testing the tester); PANEL_SPARE_LAMPS=N adds N lamps on channels 8.. (the benchmark's
-// 40-channel panel).
+// for testing the tester); PANEL_SPARE_LAMPS=N adds N lamps on channels 11.. (31 make the
+// benchmark's 40-element panel).
 //
 // Wiring and electrical cautions: firmware/README.md.
 
 #include <Arduino.h>
 #include <PanelproofLink.h>
+#include <pp_marks.h>
 #include <util/atomic.h>
 
 #ifndef PANEL_FAULT_INVERT_LAMP
@@ -35,7 +41,10 @@
 
 // ---- the panel definition ----------------------------------------------------------------------
 
-enum : uint8_t { ChGearUnsafe, ChFuelLow, ChMasterCaution, ChLampTest, ChHydPressure, ChFuelQty, ChBreakerTripped, ChBacklight, ChFirstSpare };
+enum : uint8_t {
+  ChGearUnsafe, ChLampTest, ChFuelLow, ChMasterCaution, ChHydPressure, ChFuelQty,
+  ChBatterySwitch, ChLandingLights, ChBreakerTripped, ChBreakerPulled, ChPanelDimmer, ChFirstSpare
+};
 enum : uint8_t { ElGearUnsafe, ElFuelLow, ElMasterCaution, ElPointer, ElReadout, ElBattery, ElLandingLights, ElBreaker, ElBacklight, ElFirstSpare };
 
 const uint8_t kChannels = ChFirstSpare + PANEL_SPARE_LAMPS;
@@ -245,7 +254,11 @@ class BenchPanel : public pp::Panel {
     const int32_t caution = c[ChMasterCaution].known() ? c[ChMasterCaution].asInt() : 0;
     lampWanted_[2] = test || caution != 0;
     flashing_ = !test && caution == 2;
-    tripWanted_ = test || c[ChBreakerTripped].isOn();
+    // The breaker trips when the aircraft says so and stays tripped when the fault clears, as a
+    // real one stays popped, until it is pulled and pushed in (docs/behaviours.md). Its trip lamp
+    // shows that latch; the lamp test leaves it alone, since it says where the breaker is.
+    tripCommanded_ = c[ChBreakerTripped].isOn();
+    if (tripCommanded_ && !stable_[2]) tripLatched_ = true;
 #if PANEL_SPARE_LAMPS
     for (uint8_t i = 0; i < PANEL_SPARE_LAMPS; i++) digitalWrite(kSparePins[i], (test || c[ChFirstSpare + i].isOn()) ? HIGH : LOW);
 #endif
@@ -262,14 +275,20 @@ class BenchPanel : public pp::Panel {
     formatReadout(c[ChFuelQty], text);
     readoutShow(text);
 
-    backlight_ = c[ChBacklight].known() ? (uint8_t)constrain(c[ChBacklight].asInt(), 0, 255) : 0;
+    // The dimmer is a percentage; the PWM level is 0..255, rounded as the bench rounds it.
+    const pp::Channel& d = c[ChPanelDimmer];
+    int32_t level = 0;
+    if (d.tag == pp::ValueFloat) level = (int32_t)(d.v.f * 255.0f / 100.0f + 0.5f);
+    else if (d.known()) level = (d.asInt() * 255 + 50) / 100;
+    backlight_ = (uint8_t)constrain(level, 0, 255);
     analogWrite(kBacklightPin, backlight_);
   }
 
   void rest() override {
     for (uint8_t i = 0; i < 3; i++) lampWanted_[i] = false;
     flashing_ = false;
-    tripWanted_ = false;
+    tripCommanded_ = false;
+    tripLatched_ = false;
 #if PANEL_SPARE_LAMPS
     for (uint8_t i = 0; i < PANEL_SPARE_LAMPS; i++) digitalWrite(kSparePins[i], LOW);
 #endif
@@ -305,13 +324,13 @@ class BenchPanel : public pp::Panel {
         break;
       }
       case ElReadout: {
-        // What the digits show, without the blank digits around it.
-        uint8_t start = 0, end = 8;
-        while (start < end && shown[start] == ' ') start++;
-        while (end > start && shown[end - 1] == ' ') end--;
+        // All eight digits as the glass shows them, blanks included (the definition's format has
+        // width 8, so the bench expects "    1250"); a wholly blank display is the empty text.
+        uint8_t lit = 0;
+        for (uint8_t k = 0; k < 8; k++) lit |= shown[k] != ' ';
         e.tag = pp::SeenReadout;
-        e.text = shown + start;
-        e.textLength = end - start;
+        e.text = shown;
+        e.textLength = lit ? 8 : 0;
         break;
       }
       case ElBattery:
@@ -357,6 +376,7 @@ class BenchPanel : public pp::Panel {
           count_[i] = 0;
         } else if (raw != stable_[i] && ++count_[i] >= 3) {
           stable_[i] = raw;
+          if (i == 2) breakerMoved(nowMs);
         }
       }
     }
@@ -364,13 +384,21 @@ class BenchPanel : public pp::Panel {
 
  private:
   bool lampWanted_[3] = {false, false, false};
-  bool tripWanted_ = false;
+  bool tripCommanded_ = false;  // what the aircraft says now
+  bool tripLatched_ = false;    // what the breaker shows: tripped until pulled and pushed in
   bool flashing_ = false;
   uint8_t backlight_ = 0;
   uint8_t stable_[kInputs] = {0, 0, 0};
   uint8_t candidate_[kInputs] = {0, 0, 0};
   uint8_t count_[kInputs] = {0, 0, 0};
   uint32_t lastDebounceMs_ = 0;
+
+  // Pulling a tripped breaker resets it; pushing it in while the fault is still there trips it
+  // again at once.
+  void breakerMoved(uint32_t nowMs) {
+    tripLatched_ = stable_[2] ? false : tripCommanded_;
+    driveLamps(nowMs);
+  }
 
   // Read from the pin, not from lampWanted_: with the injected fault the board reports the lamp
   // it really lights, and the bench finds the difference on exactly that element.
@@ -385,7 +413,7 @@ class BenchPanel : public pp::Panel {
 #endif
       digitalWrite(kLampPins[i], on ? HIGH : LOW);
     }
-    digitalWrite(kTripLampPin, tripWanted_ ? HIGH : LOW);
+    digitalWrite(kTripLampPin, tripLatched_ ? HIGH : LOW);
   }
 
   // Position index of input `index` from its contacts.
@@ -401,11 +429,14 @@ class BenchPanel : public pp::Panel {
     memset(out, ' ', 8);
     out[8] = 0;
     if (c.tag == pp::ValueText) {
-      // Text shows as given, from the left, as far as eight digits go.
-      for (uint8_t k = 0; k < 8 && c.text[k]; k++) out[k] = c.text[k];
+      // Text right-aligned, as the definition's format shows it; longer text keeps its first
+      // eight characters.
+      const uint8_t n = (uint8_t)strnlen(c.text, 8);
+      memcpy(out + 8 - n, c.text, n);
       return;
     }
     if (!c.known()) return;
+    // Numbers rounded half away from zero (asInt), as the bench's format does with 0 decimals.
     char digits[12];
     ltoa(c.asInt(), digits, 10);
     const uint8_t n = strlen(digits);
@@ -456,13 +487,19 @@ static pp::LinkDeviceWith<kElements, kInputs> panelLink(config, panel, port, cha
 
 void setup() {
   channels[ChGearUnsafe] = pp::channel(pp::kAcceptBoolean);
+  channels[ChLampTest] = pp::channel(pp::kAcceptBoolean);
   channels[ChFuelLow] = pp::channel(pp::kAcceptBoolean);
   channels[ChMasterCaution] = pp::channel(pp::kAcceptEnum | pp::kAcceptBoolean);
-  channels[ChLampTest] = pp::channel(pp::kAcceptBoolean);
   channels[ChHydPressure] = pp::channel(pp::kAcceptNumber);
-  channels[ChFuelQty] = pp::textChannel(fuelQtyText, pp::kAcceptInt);
+  channels[ChFuelQty] = pp::textChannel(fuelQtyText, pp::kAcceptNumber);
+  // Where the aircraft has the switches and the pulled breaker: the builder's hand sets them and
+  // the board reports where they really are, so these are taken (never refused) and not used.
+  const uint8_t anyPosition = pp::kAcceptBoolean | pp::kAcceptEnum | pp::kAcceptInt;
+  channels[ChBatterySwitch] = pp::channel(anyPosition);
+  channels[ChLandingLights] = pp::channel(anyPosition);
   channels[ChBreakerTripped] = pp::channel(pp::kAcceptBoolean);
-  channels[ChBacklight] = pp::channel(pp::kAcceptInt);
+  channels[ChBreakerPulled] = pp::channel(anyPosition);
+  channels[ChPanelDimmer] = pp::channel(pp::kAcceptNumber);
   for (uint8_t i = ChFirstSpare; i < kChannels; i++) channels[i] = pp::channel(pp::kAcceptBoolean);
 
   Serial.begin(115200);
@@ -474,7 +511,11 @@ void setup() {
 
 void loop() {
   // Read what has arrived, but not forever: outputs and reports get their turn every pass.
-  for (uint8_t n = 0; n < 64 && Serial.available(); n++) panelLink.receive((uint8_t)Serial.read());
+  // Taking a byte out of the core's receive ring counts as receiving it (PP_MARK: cycle counts).
+  for (uint8_t n = 0; n < 64 && Serial.available(); n++) {
+    PP_MARK(PP_MARK_RECEIVE);
+    panelLink.receive((uint8_t)Serial.read());
+  }
   panel.tick(millis());
   panelLink.update();
 }

@@ -47,4 +47,9 @@ export const demoChannels: ChannelDefinition[] = [
   { name: "nav.mode_r", kind: "enum", values: ["ARC", "ROSE", "PLAN"], description: "Right display mode" },
   { name: "wx.radar_on", kind: "boolean", description: "Weather display powered" },
   { name: "wx.tilt_deg", kind: "number", unit: "deg", min: -15, max: 15, description: "Weather antenna tilt" },
+  // Read by the firmware example's panel (firmware/examples/bench-panel/bench-panel.panel.json).
+  { name: "annun.master_caution_lamp", kind: "enum", values: ["OFF", "STEADY", "FLASHING"], description: "Master caution lamp as commanded" },
+  { name: "hyd.pressure_psi", kind: "number", unit: "psi", min: 0, max: 3000, description: "Hydraulic system pressure" },
+  { name: "fuel.qty_lb", kind: "number", unit: "lb", min: 0, max: 5000, description: "Total fuel quantity" },
+  { name: "lights.landing", kind: "enum", values: ["OFF", "TAXI", "LAND"], description: "Landing lights switch" },
 ];

@@ -6,6 +6,7 @@ import { LinkStreamDecoder } from "../../../shared/link/stream";
 import { panel as panelSchema, panelChannels } from "../../../shared/panel/schema";
 import type { ChannelValue } from "../../../shared/recording/channels";
 import { VirtualPanelDevice } from "../../../shared/virtual/panel-device";
+import { flightGauges } from "../../../shared/panel/demo/panels";
 
 /**
  * The one virtual panel shared by the browser, the device emulator and the tests, driven on an
@@ -122,5 +123,36 @@ describe("the shared virtual panel", () => {
     expect(() => device.moveInput("gear-lamp", { kind: "position", position: "on" })).toThrow(/lamp/);
     expect(() => device.moveInput("beacon", { kind: "position", position: "flash" })).toThrow(/no position flash/);
     expect(() => device.moveInput("nothing", { kind: "position", position: "on" })).toThrow(/no element/);
+  });
+
+  it("reports a needle still slewing between updates, as a board does, at most every 50 ms", () => {
+    let now = 0;
+    const device = new VirtualPanelDevice({ panel: flightGauges, clock: () => now });
+    const map = new PanelValueMap(panelChannels(flightGauges), []);
+    const decoder = new LinkStreamDecoder({ acceptFrom: "device" });
+    const send = (values: Record<string, ChannelValue>) =>
+      device.receiveBytes(encodeLinkFrame({ address: 0, sequence: 1, message: { type: "value_update", keyframeBegin: false, keyframeEnd: false, values: map.valuesOf(values, true) } }));
+    const index = flightGauges.elements.findIndex((e) => e.id === "airspeed");
+    const airspeedIn = (bytes: Uint8Array | null) => {
+      if (!bytes) return undefined;
+      const seen = decoder.push(bytes).flatMap((e) => (e.ok && e.frame.message.type === "seen_report" ? e.frame.message.seen : []));
+      const entry = seen.find((x) => x.element === index);
+      return entry && entry.kind === "pointer_angle" ? entry.centidegrees / 100 : undefined;
+    };
+    const power = Object.fromEntries(panelChannels(flightGauges).filter((c) => c.startsWith("elec.")).map((c) => [c, true]));
+    send({ ...power, ias_kt: 0 });
+    now = 100;
+    send({ ...power, ias_kt: 200 });
+    const angles: number[] = [];
+    for (now = 150; now <= 900; now += 50) {
+      const a = airspeedIn(device.periodic());
+      if (a !== undefined) angles.push(a);
+    }
+    now = 910;
+    expect(device.periodic()).toBeNull(); // asked again within 50 ms of the last look
+    // 240 degrees per second from 0 towards the 200 kt mark (290 degrees): it moves on every report.
+    expect(angles.length).toBeGreaterThanOrEqual(10);
+    for (let i = 1; i < angles.length; i++) expect(angles[i]).toBeGreaterThan(angles[i - 1]);
+    expect(angles.at(-1)!).toBeLessThanOrEqual(290);
   });
 });
