@@ -4,6 +4,7 @@ import { expectedAt } from "../../../shared/expect/lookup";
 import type { ExpectedState } from "../../../shared/expect/types";
 import { PanelDrawing, arrange } from "../../components/PanelDrawing";
 import { clock } from "./words";
+import { FailMark } from "./FailMark";
 
 export interface InstantMismatch {
   elementId: string;
@@ -42,14 +43,8 @@ export function PanelAtInstant({ panel, atMs, mismatches }: { panel: RunExpected
           {a.items.map((item) => {
             const bad = item.elements.filter((e) => failingIds.has(e.id));
             if (bad.length === 0) return null;
-            const c = a.cell;
             return (
-              <g key={item.elements[0].id} transform={`translate(${item.x} ${item.y})`} data-testid={`instant-fail-${bad.map((e) => e.id).join("-")}`}>
-                <rect x={-c * 0.6} y={-c * 0.6} width={c * 1.2} height={c * 1.25} fill="none" stroke="#c4473c" strokeWidth={c * 0.05} strokeDasharray={`${c * 0.12} ${c * 0.06}`} />
-                <text x={0} y={-c * 0.66} textAnchor="middle" fontSize={c * 0.16} fontWeight={700} fill="#fbfaf6" stroke="#c4473c" strokeWidth={c * 0.05} paintOrder="stroke" fontFamily="ui-monospace, monospace">
-                  ✕ {bad.map((e) => e.label).join(", ")}
-                </text>
-              </g>
+              <FailMark key={item.elements[0].id} cell={a.cell} x={item.x} y={item.y} labels={bad.map((e) => e.label)} prefix="✕" testId={`instant-fail-${bad.map((e) => e.id).join("-")}`} />
             );
           })}
         </svg>

@@ -8,6 +8,7 @@ import { usePanel } from "../panels/queries";
 import { useAirframe } from "../recordings/queries";
 import { elementKey } from "./live";
 import { BrowserPanel, hostInBrowser, type BrowserLinkState } from "./virtual-panel";
+import { FailMark } from "./FailMark";
 import { useVirtualPanelElsewhere } from "./virtual-elsewhere";
 import { FAULT_WORDS, StatusTag } from "./words";
 
@@ -134,15 +135,8 @@ export function PanelLive({
           {a.items.map((item) => {
             const bad = item.elements.filter((e) => statuses[elementKey(panelId, e.id)] === "fail");
             if (bad.length === 0) return null;
-            const c = a.cell;
             return (
-              <g key={item.elements[0].id} transform={`translate(${item.x} ${item.y})`} data-testid={`fail-mark-${bad.map((e) => e.id).join("-")}`}>
-                <rect x={-c * 0.6} y={-c * 0.6} width={c * 1.2} height={c * 1.25} fill="none" stroke="#c4473c" strokeWidth={c * 0.05} strokeDasharray={`${c * 0.12} ${c * 0.06}`} />
-                <path d={`M ${c * 0.42} ${-c * 0.6} l ${c * 0.18} 0 l 0 ${c * 0.18} z`} fill="#c4473c" />
-                <text x={0} y={-c * 0.66} textAnchor="middle" fontSize={c * 0.16} fontWeight={700} fill="#fbfaf6" stroke="#c4473c" strokeWidth={c * 0.05} paintOrder="stroke" fontFamily="ui-monospace, monospace">
-                  ✕ FAIL {bad.map((e) => e.label).join(", ")}
-                </text>
-              </g>
+              <FailMark key={item.elements[0].id} cell={a.cell} x={item.x} y={item.y} labels={bad.map((e) => e.label)} prefix="✕ FAIL" testId={`fail-mark-${bad.map((e) => e.id).join("-")}`} />
             );
           })}
         </svg>

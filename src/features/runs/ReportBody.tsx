@@ -75,7 +75,6 @@ export function ReportBody({ report, source }: { report: RunReportView; source: 
       <ErrorNote error={expected.error} />
       {expected.data && (
         <>
-          <CoverageCard view={expected.data} />
           <Card title="Timeline">
             <ReportTimeline report={report} view={expected.data} mismatches={mismatches} atMs={atMs} onSeek={seek} />
           </Card>
@@ -141,6 +140,7 @@ export function ReportBody({ report, source }: { report: RunReportView; source: 
       <Card title="Mismatches">
         <MismatchTable mismatches={mismatches} labels={labels} onSeek={seek} />
       </Card>
+      {expected.data && <CoverageCard view={expected.data} />}
     </div>
   );
 }
@@ -197,6 +197,24 @@ function InstantSlider({ fromMs, toMs, atMs, onChange, mismatches }: { fromMs: n
   );
 }
 
+/** Gaps listed before the rest fold away: a short recording leaves dozens. */
+const GAPS_SHOWN = 6;
+
+type GapRow = RunExpectedView["panels"][number]["coverageGaps"][number] & { panelName: string };
+
+function CoverageGap({ gap: g, showPanel }: { gap: GapRow; showPanel: boolean }) {
+  return (
+    <li className="rounded-md border border-rule/70 px-3 py-2" data-testid={`coverage-gap-${g.elementId}`}>
+      <span className="font-mono" aria-hidden="true">
+        ○{" "}
+      </span>
+      <strong>{g.gap}</strong>
+      {showPanel && <span className="text-ink-soft"> ({g.panelName})</span>}
+      {g.suggestion && <span className="block text-ink-soft">→ {g.suggestion}</span>}
+    </li>
+  );
+}
+
 function CoverageCard({ view }: { view: RunExpectedView }) {
   const gaps = view.panels.flatMap((p) => p.coverageGaps.map((g) => ({ ...g, panelName: p.name })));
   return (
@@ -207,17 +225,20 @@ function CoverageCard({ view }: { view: RunExpectedView }) {
         <>
           <p className="mb-3 text-sm text-ink-soft">What the recording never made these elements show, so this run could not test it, and a step a scenario could add.</p>
           <ul className="flex flex-col gap-2 text-sm" aria-label="Coverage gaps">
-            {gaps.map((g, i) => (
-              <li key={`${g.panelId}-${g.elementId}-${i}`} className="rounded-md border border-rule/70 px-3 py-2" data-testid={`coverage-gap-${g.elementId}`}>
-                <span className="font-mono" aria-hidden="true">
-                  ○{" "}
-                </span>
-                <strong>{g.gap}</strong>
-                {view.panels.length > 1 && <span className="text-ink-soft"> ({g.panelName})</span>}
-                {g.suggestion && <span className="block text-ink-soft">→ {g.suggestion}</span>}
-              </li>
+            {gaps.slice(0, GAPS_SHOWN).map((g, i) => (
+              <CoverageGap key={`${g.panelId}-${g.elementId}-${i}`} gap={g} showPanel={view.panels.length > 1} />
             ))}
           </ul>
+          {gaps.length > GAPS_SHOWN && (
+            <details className="mt-2 text-sm">
+              <summary className="cursor-pointer font-semibold text-calm">Show {gaps.length - GAPS_SHOWN} more</summary>
+              <ul className="mt-2 flex flex-col gap-2" aria-label="More coverage gaps">
+                {gaps.slice(GAPS_SHOWN).map((g, i) => (
+                  <CoverageGap key={`${g.panelId}-${g.elementId}-more-${i}`} gap={g} showPanel={view.panels.length > 1} />
+                ))}
+              </ul>
+            </details>
+          )}
         </>
       )}
     </Card>

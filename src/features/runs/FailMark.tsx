@@ -1,0 +1,35 @@
+/**
+ * The mark drawn over a failing element on a panel drawing: a dashed frame, a corner flag and
+ * the element's label, so failure reads by shape and words as well as colour. The label is
+ * squeezed to the frame's width when it is longer (two neighbouring gauges' labels used to run
+ * into each other); the full names are in the list beside the drawing.
+ */
+export function FailMark({ cell: c, x, y, labels, prefix, testId }: { cell: number; x: number; y: number; labels: string[]; prefix: string; testId: string }) {
+  const text = `${prefix} ${labels.join(", ")}`;
+  const fontSize = c * 0.16;
+  const width = c * 1.3;
+  // Monospace: about 0.6 of the font size per character.
+  const natural = text.length * fontSize * 0.6;
+  return (
+    <g transform={`translate(${x} ${y})`} data-testid={testId}>
+      <rect x={-c * 0.6} y={-c * 0.6} width={c * 1.2} height={c * 1.25} fill="none" stroke="#c4473c" strokeWidth={c * 0.05} strokeDasharray={`${c * 0.12} ${c * 0.06}`} />
+      <path d={`M ${c * 0.42} ${-c * 0.6} l ${c * 0.18} 0 l 0 ${c * 0.18} z`} fill="#c4473c" />
+      <text
+        x={0}
+        y={-c * 0.66}
+        textAnchor="middle"
+        fontSize={fontSize}
+        fontWeight={700}
+        fill="#fbfaf6"
+        stroke="#c4473c"
+        strokeWidth={c * 0.05}
+        paintOrder="stroke"
+        fontFamily="ui-monospace, monospace"
+        textLength={natural > width ? width : undefined}
+        lengthAdjust="spacingAndGlyphs"
+      >
+        {text}
+      </text>
+    </g>
+  );
+}
