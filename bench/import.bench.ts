@@ -1,4 +1,5 @@
 import { fork } from "node:child_process";
+import { randomUUID } from "node:crypto";
 import { createReadStream, createWriteStream, existsSync, mkdirSync, statSync } from "node:fs";
 import { once } from "node:events";
 import path from "node:path";
@@ -8,16 +9,24 @@ import type { ChannelDefinition, ChannelValue } from "../shared/recording/channe
 import type { Frame } from "../shared/recording/frames";
 import { RecordingParser, serializeHeader } from "../shared/recording/recording-file";
 import { Segmenter, stateAt, type RecordingSegment } from "../shared/recording/segments";
+import { eq } from "drizzle-orm";
+import { connectDatabase } from "../server/db/client";
+import { airframe, importJob, organization, recording } from "../server/db/schema";
+import { runImport } from "../server/jobs/import-recording";
 import { nativeDeflate } from "../server/recordings/native-deflate";
+import { LocalStorage } from "../server/storage/local";
 import { ChannelStatsCollector } from "../server/recordings/stats";
 import { peakRssMb, type BenchReport } from "./harness";
 
 /**
  * Import speed and memory (issue 3). A generated recording (500 channels at 60 Hz with
- * realistic change rates) is imported end to end as the import worker does it (parse,
- * per-channel stats, segment, encode; the database write is left out), against a bare
+ * realistic change rates) is imported end to end by the import worker itself (runImport:
+ * stored file read through the local storage driver, parse and validate, per-channel stats,
+ * segment, deflate, insert the segments and the recording in one transaction) against a bare
  * line-by-line JSON.parse loop over the same file in the same run. Each phase runs in its own
- * process so its peak resident memory is its own.
+ * process so its peak resident memory is its own. It needs a database (BENCH_DATABASE_URL or
+ * TEST_DATABASE_URL: a throwaway workshop is made and removed); without one the database write
+ * is left out and the figure says so.
  *
  * The issue's full figure is a 200 MB file; the default here is smaller so the bench finishes
  * in about a minute on two cores: BENCH_IMPORT_MB=200 npm run bench -- import for the full one.
@@ -124,18 +133,69 @@ async function fullImport(file: string): Promise<number> {
   return segments;
 }
 
+/**
+ * The real worker on a real database: a throwaway workshop, airframe and import job, the file
+ * kept where a LocalStorage rooted at its folder finds it, runImport, then everything removed.
+ */
+async function databaseImport(file: string, databaseUrl: string): Promise<number> {
+  const db = connectDatabase(databaseUrl, 3);
+  const workshopId = randomUUID();
+  const airframeId = randomUUID();
+  const importId = randomUUID();
+  try {
+    await db.insert(organization).values({ id: workshopId, name: "Import bench (throwaway)", slug: `bench-${workshopId}`, createdAt: new Date() });
+    await db.insert(airframe).values({ id: airframeId, workshopId, name: "Bench rig (invented)", channels: catalogue(CHANNELS) });
+    await db.insert(importJob).values({
+      id: importId,
+      workshopId,
+      airframeId,
+      name: "import bench",
+      format: "ppr",
+      options: {},
+      // Keys start with a plain folder name (server/storage/types.ts): the file's folder is it.
+      storageKey: `${path.basename(path.dirname(file))}/${path.basename(file)}`,
+      bytesTotal: statSync(file).size,
+    });
+    await runImport({ db, storage: new LocalStorage(path.dirname(path.dirname(file))), maxBytes: 2 ** 40 }, importId);
+    const [job] = await db.select().from(importJob).where(eq(importJob.id, importId));
+    if (job.state !== "done") throw new Error(`the bench import ended ${job.state}: ${job.errorWhere ?? ""} ${job.errorMessage ?? ""}`);
+    const [row] = await db.select({ segments: recording.segmentCount }).from(recording).where(eq(recording.id, job.recordingId!));
+    return row.segments;
+  } finally {
+    await db.delete(recording).where(eq(recording.workshopId, workshopId));
+    await db.delete(organization).where(eq(organization.id, workshopId));
+    await db.$client.end();
+  }
+}
+
+const benchDatabaseUrl = () => process.env.BENCH_DATABASE_URL ?? process.env.TEST_DATABASE_URL;
+
 /** Child process entry: one phase, then its time and peak memory on stdout as JSON. */
 async function phase(name: string, file: string) {
   const start = performance.now();
-  const count = name === "bare" ? await bareParse(file) : await fullImport(file);
+  const cpuAtStart = process.cpuUsage();
+  const databaseUrl = benchDatabaseUrl();
+  const count = name === "bare" ? await bareParse(file) : databaseUrl ? await databaseImport(file, databaseUrl) : await fullImport(file);
   const seconds = (performance.now() - start) / 1000;
-  process.send!({ seconds, peakRssMb: peakRssMb(), count });
+  const cpu = process.cpuUsage(cpuAtStart);
+  // CPU time of every thread of the process (main, compressing thread, GC helpers) during the phase.
+  const result = { seconds, peakRssMb: peakRssMb(), count, cpuSeconds: (cpu.user + cpu.system) / 1e6 };
+  // Run by hand (node --import tsx --cpu-prof bench/import.bench.ts --phase import FILE) to profile one phase.
+  if (process.send) process.send(result);
+  else console.log(JSON.stringify(result));
 }
 
-function runPhase(name: string, file: string): Promise<{ seconds: number; peakRssMb: number; count: number }> {
+interface PhaseResult {
+  seconds: number;
+  peakRssMb: number;
+  count: number;
+  cpuSeconds: number;
+}
+
+function runPhase(name: string, file: string): Promise<PhaseResult> {
   return new Promise((resolve, reject) => {
     const child = fork(fileURLToPath(import.meta.url), ["--phase", name, file], { execArgv: process.execArgv });
-    child.once("message", (m) => resolve(m as { seconds: number; peakRssMb: number; count: number }));
+    child.once("message", (m) => resolve(m as PhaseResult));
     child.once("exit", (code) => code !== 0 && reject(new Error(`${name} phase exited with ${code}`)));
   });
 }
@@ -169,8 +229,20 @@ export async function run(): Promise<BenchReport> {
   if (!existsSync(file)) await generate(file, mb * 1024 * 1024);
   const size = statSync(file).size / (1024 * 1024);
 
-  const bare = await runPhase("bare", file);
-  const full = await runPhase("import", file);
+  // Rounds alternate bare and import and keep each one's best: on a shared machine a neighbour's
+  // burst then slows one round, not the figure. BENCH_IMPORT_ROUNDS, default 3 (1 from 100 MB).
+  const rounds = Math.max(1, Number(process.env.BENCH_IMPORT_ROUNDS ?? (mb >= 100 ? 1 : 3)));
+  let bare = await runPhase("bare", file);
+  let full = await runPhase("import", file);
+  for (let round = 1; round < rounds; round++) {
+    const b = await runPhase("bare", file);
+    const f = await runPhase("import", file);
+    if (b.seconds < bare.seconds) bare = { ...b, peakRssMb: Math.max(b.peakRssMb, bare.peakRssMb) };
+    else bare.peakRssMb = Math.max(b.peakRssMb, bare.peakRssMb);
+    // Peak memory is the worst round's: the target is a bound, not a best case.
+    if (f.seconds < full.seconds) full = { ...f, peakRssMb: Math.max(f.peakRssMb, full.peakRssMb) };
+    else full.peakRssMb = Math.max(f.peakRssMb, full.peakRssMb);
+  }
   const bareRate = size / bare.seconds;
   const fullRate = size / full.seconds;
   const seek = stateLatency(stateChannels);
@@ -178,14 +250,24 @@ export async function run(): Promise<BenchReport> {
     topic: "import",
     rows: [
       {
-        metric: `import a ${size.toFixed(1)} MB recording (${CHANNELS} channels, ${RATE_HZ} Hz; full figure ${FULL_MB} MB) end to end: parse, stats, segment, encode`,
+        metric: `import a ${size.toFixed(1)} MB recording (${CHANNELS} channels, ${RATE_HZ} Hz; full figure ${FULL_MB} MB) end to end: ${
+          benchDatabaseUrl() ? "the import worker, database write included" : "parse, stats, segment, encode (NO database: set BENCH_DATABASE_URL)"
+        }`,
         value: fullRate,
         unit: "MB/s",
         baseline: bareRate,
         ratio: fullRate / bareRate,
         target: ">= 0.4 of bare parse",
         met: fullRate / bareRate >= 0.4,
-        note: `baseline: bare line-by-line JSON.parse of the same file; ${full.count} segments written`,
+        note: `baseline: bare line-by-line JSON.parse of the same file; best of ${rounds} alternating round(s) each; ${full.count} segments written`,
+      },
+      {
+        metric: "CPU seconds per MB of the same two phases (all threads of the process; steadier than wall time on a busy machine)",
+        value: full.cpuSeconds / size,
+        unit: "CPU s/MB",
+        baseline: bare.cpuSeconds / size,
+        ratio: bare.cpuSeconds / full.cpuSeconds,
+        note: "ratio: bare CPU / import CPU; the database server's own CPU is not counted",
       },
       {
         metric: "peak resident memory of the import process",
@@ -194,7 +276,7 @@ export async function run(): Promise<BenchReport> {
         baseline: bare.peakRssMb,
         target: "< 300 MB whatever the file size",
         met: full.peakRssMb < 300,
-        note: "baseline: the bare parse process",
+        note: `baseline: the bare parse process; the highest of ${rounds} round(s)`,
       },
       {
         metric: `stateAt on a one-hour recording (${stateChannels} channels, ${RATE_HZ} Hz, ${seek.segments} segments), p50`,

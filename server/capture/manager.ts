@@ -2,7 +2,7 @@ import dgram from "node:dgram";
 import { randomBytes, randomUUID } from "node:crypto";
 import type { IncomingMessage } from "node:http";
 import type { Duplex } from "node:stream";
-import { and, eq } from "drizzle-orm";
+import { and, desc, eq, isNull, lt, ne, notInArray, or } from "drizzle-orm";
 import { WebSocketServer, type WebSocket } from "ws";
 import { fromNodeHeaders } from "better-auth/node";
 import type { CaptureView } from "../../shared/api/recordings";
@@ -22,6 +22,13 @@ import { CaptureSession, hashToken, tokenMatches } from "./session";
 
 export const CAPTURE_WS_PREFIX = "/ws/captures";
 
+/** How often a holding process stamps its live captures (alive_at and the counters so far). */
+export const CAPTURE_STAMP_MS = 1_000;
+/** A capturing row not stamped for this long belongs to a process that is gone (as for runs). */
+export const CAPTURE_STALE_AFTER_MS = 10_000;
+
+const INTERRUPTED_WHY = "the server process holding this capture stopped without saving it; what arrived was lost";
+
 interface LiveCapture {
   id: string;
   workshopId: string;
@@ -38,6 +45,7 @@ interface LiveCapture {
   timer: NodeJS.Timeout;
   state: CaptureView["state"];
   recordingId: string | null;
+  stoppedAt: Date | null;
 }
 
 export interface CaptureManagerDeps {
@@ -54,11 +62,56 @@ export interface CaptureManagerDeps {
  * arrived as a recording through the same RecordingWriter as imports.
  */
 export class CaptureManager {
+  /** Written into `held_by` of the captures this process listens for. */
+  readonly processId = randomUUID();
   private readonly live = new Map<string, LiveCapture>();
   private readonly wss = new WebSocketServer({ noServer: true, maxPayload: 1024 * 1024 });
+  private readonly stamper: NodeJS.Timeout;
 
   constructor(private readonly deps: CaptureManagerDeps) {
     deps.upgrades.add(CAPTURE_WS_PREFIX, (request, socket, head, url) => void this.upgrade(request, socket, head, url));
+    this.stamper = setInterval(() => void this.stamp(), CAPTURE_STAMP_MS);
+    this.stamper.unref();
+    // Captures a previous process held are interrupted now, not only when someone lists them.
+    void this.markInterrupted().catch((error) => console.error("[capture] marking interrupted captures failed:", error));
+  }
+
+  /**
+   * Says "still here" for every capture this process holds, with the counters so far, so a
+   * capture whose process dies keeps the counts of its last second.
+   */
+  private async stamp(): Promise<void> {
+    for (const live of this.live.values()) {
+      const c = live.session.counters;
+      await this.deps.db
+        .update(capture)
+        .set({ aliveAt: new Date(), heldBy: this.processId, received: c.received, malformed: c.malformed, outOfOrder: c.outOfOrder, duplicates: c.duplicates, dropped: c.dropped, lastError: c.lastError })
+        .where(and(eq(capture.id, live.id), eq(capture.state, "capturing")))
+        .catch((error) => console.error(`[capture ${live.id}] stamp failed:`, error.message));
+    }
+  }
+
+  /**
+   * Captures left "capturing" by a process that is gone (not this one, not stamped for 10 s)
+   * become "interrupted". Their frames lived in that process's memory and are lost; the counters
+   * of the last stamp stay. Runs at start, and before captures are listed or shown.
+   */
+  async markInterrupted(workshopId?: string): Promise<number> {
+    const stale = new Date(Date.now() - CAPTURE_STALE_AFTER_MS);
+    const where = [
+      eq(capture.state, "capturing"),
+      or(isNull(capture.heldBy), ne(capture.heldBy, this.processId)),
+      or(isNull(capture.aliveAt), lt(capture.aliveAt, stale)),
+    ];
+    if (workshopId) where.push(eq(capture.workshopId, workshopId));
+    const mine = [...this.live.keys()];
+    if (mine.length > 0) where.push(notInArray(capture.id, mine));
+    const marked = await this.deps.db
+      .update(capture)
+      .set({ state: "interrupted", heldBy: null, lastError: INTERRUPTED_WHY, stoppedAt: new Date() })
+      .where(and(...where))
+      .returning({ id: capture.id });
+    return marked.length;
   }
 
   async start(input: {
@@ -105,6 +158,7 @@ export class CaptureManager {
       timer: setInterval(() => session.tick(), 100),
       state: "capturing",
       recordingId: null,
+      stoppedAt: null,
     };
     live.timer.unref();
     try {
@@ -118,6 +172,8 @@ export class CaptureManager {
         tokenHash: live.tokenHash,
         createdById: input.createdById,
         startedAt: live.startedAt,
+        heldBy: this.processId,
+        aliveAt: live.startedAt,
       });
     } catch (error) {
       this.release(live);
@@ -131,11 +187,33 @@ export class CaptureManager {
   async view(workshopId: string, id: string): Promise<CaptureView | null> {
     const live = this.live.get(id);
     if (live && live.workshopId === workshopId) return this.viewOf(live);
-    const [row] = await this.deps.db
+    let [row] = await this.deps.db
       .select()
       .from(capture)
       .where(and(eq(capture.id, id), eq(capture.workshopId, workshopId)));
     if (!row) return null;
+    if (row.state === "capturing" && (await this.markInterrupted(workshopId)) > 0) {
+      [row] = await this.deps.db.select().from(capture).where(eq(capture.id, id));
+    }
+    return this.rowView(row);
+  }
+
+  /** This workshop's captures, newest first: live ones from memory, the rest from their rows. */
+  async list(workshopId: string, limit = 100): Promise<CaptureView[]> {
+    await this.markInterrupted(workshopId);
+    const rows = await this.deps.db
+      .select()
+      .from(capture)
+      .where(eq(capture.workshopId, workshopId))
+      .orderBy(desc(capture.startedAt))
+      .limit(limit);
+    return rows.map((row) => {
+      const live = this.live.get(row.id);
+      return live ? this.viewOf(live) : this.rowView(row);
+    });
+  }
+
+  private rowView(row: typeof capture.$inferSelect): CaptureView {
     return {
       id: row.id,
       name: row.name,
@@ -152,6 +230,7 @@ export class CaptureManager {
       latest: {},
       recordingId: row.recordingId,
       airframeId: row.airframeId,
+      stoppedAt: row.stoppedAt?.toISOString() ?? null,
     };
   }
 
@@ -174,6 +253,7 @@ export class CaptureManager {
       recordingId: live.recordingId,
       airframeId: live.airframeId,
       frames: live.session.frameCount,
+      stoppedAt: live.stoppedAt?.toISOString() ?? null,
     };
   }
 
@@ -192,6 +272,7 @@ export class CaptureManager {
     }
     this.live.delete(id);
     this.release(live);
+    live.stoppedAt = new Date();
     const { frames, channels, drafts } = live.session.finish();
     const c = live.session.counters;
     try {
@@ -241,7 +322,8 @@ export class CaptureManager {
         dropped: c.dropped,
         lastError: c.lastError,
         recordingId: live.recordingId,
-        stoppedAt: new Date(),
+        stoppedAt: live.stoppedAt,
+        heldBy: null,
       })
       .where(eq(capture.id, id));
     return this.viewOf(live);
@@ -260,6 +342,7 @@ export class CaptureManager {
 
   /** On server shutdown: stop listening and keep what was captured as recordings. */
   async closeAll(): Promise<void> {
+    clearInterval(this.stamper);
     for (const live of [...this.live.values()]) await this.stop(live.workshopId, live.id).catch(() => {});
     this.wss.close();
   }

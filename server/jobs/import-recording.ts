@@ -1,4 +1,4 @@
-import { eq } from "drizzle-orm";
+import { and, eq, inArray } from "drizzle-orm";
 import { CSV_DELIMITER_BY_NAME } from "../../shared/api/recordings";
 import type { ChannelDefinition } from "../../shared/recording/channels";
 import { CsvImporter } from "../../shared/recording/csv-import";
@@ -20,6 +20,9 @@ export interface ImportDeps {
   progressEveryMs?: number;
 }
 
+/** The job was cancelled (POST .../imports/:id/cancel) while this worker read it. */
+class ImportCancelled extends Error {}
+
 /** A source that turns pushed byte chunks into frames: the shared recording parser or CSV importer. */
 interface FrameSource {
   push(chunk: Uint8Array): Frame[];
@@ -32,12 +35,39 @@ interface FrameSource {
  * refusal anywhere leaves no recording and changes no other one. Progress (bytes, frames)
  * goes to import_job outside that transaction, every few hundred ms, so a reloaded page still
  * shows the bar. Bad input never throws out of here: it is recorded on the job with where and why.
+ *
+ * Cancelling: every progress write is conditional on the job still running, and "done" is
+ * written INSIDE the transaction on the same condition. A cancel that lands first makes one of
+ * them match no row: the transaction rolls back (no recording) and the stored file is deleted.
+ * A cancel that lands after "done" finds no queued or running job and is refused.
  */
 export async function runImport(deps: ImportDeps, importId: string): Promise<void> {
   const { db, storage } = deps;
   const [job] = await db.select().from(importJob).where(eq(importJob.id, importId));
-  if (!job || job.state === "done" || job.state === "failed") return; // already handled (a retried job)
-  await db.update(importJob).set({ state: "running", bytesRead: 0, frames: 0, updatedAt: new Date() }).where(eq(importJob.id, importId));
+  if (!job) return;
+  // Claim it unless it ended meanwhile (done, failed, or cancelled: then only tidy the file).
+  const [claimed] = await db
+    .update(importJob)
+    .set({ state: "running", bytesRead: 0, frames: 0, updatedAt: new Date() })
+    .where(and(eq(importJob.id, importId), inArray(importJob.state, ["queued", "running"])))
+    .returning({ id: importJob.id });
+  if (!claimed) {
+    if (job.state === "cancelled") await storage.delete(job.storageKey).catch(() => {});
+    return;
+  }
+  const stillRunning = and(eq(importJob.id, importId), eq(importJob.state, "running"));
+  /** Progress write; false when the job is no longer running (cancelled). A failed write is not a cancel. */
+  const writeProgress = () =>
+    db
+      .update(importJob)
+      .set({ bytesRead, frames, updatedAt: new Date() })
+      .where(stillRunning)
+      .returning({ id: importJob.id })
+      .then(
+        (rows) => rows.length > 0,
+        (error: Error) => (console.error(`[import ${importId}] progress write failed:`, error.message), true),
+      );
+  let progress: Promise<boolean> | null = null;
 
   let bytesRead = 0;
   let lastProgress = Date.now();
@@ -48,7 +78,7 @@ export async function runImport(deps: ImportDeps, importId: string): Promise<voi
     const [frame] = await db.select().from(airframe).where(eq(airframe.id, job.airframeId));
     if (!frame) throw new RecordingError("invalid_header", "the airframe chosen for this import no longer exists");
     const addDrafts = job.options.addDraftChannels === "true";
-    const recordingId = await db.transaction(async (tx) => {
+    await db.transaction(async (tx) => {
       let drafts: ChannelDefinition[] = [];
       let channels: ChannelDefinition[] = [];
       let headerDuration: number | undefined;
@@ -101,7 +131,10 @@ export async function runImport(deps: ImportDeps, importId: string): Promise<voi
         frames += out.length;
         if (Date.now() - lastProgress >= every) {
           lastProgress = Date.now();
-          await db.update(importJob).set({ bytesRead, frames, updatedAt: new Date() }).where(eq(importJob.id, importId));
+          // The previous write (300 ms ago) has long answered: a cancel is seen here without
+          // the import ever waiting on a progress round trip.
+          if (progress && !(await progress)) throw new ImportCancelled();
+          progress = writeProgress();
         }
       };
 
@@ -117,18 +150,28 @@ export async function runImport(deps: ImportDeps, importId: string): Promise<voi
       }
       await addDraftChannels(tx, job.airframeId, drafts);
       const draftNames = new Set(drafts.map((d) => d.name));
-      return writer.finish({
+      const id = await writer.finish({
         durationMs: headerDuration,
         channels: channels.map((c) => (draftNames.has(c.name) ? { ...c, draft: true } : c)),
         notes,
         sampleRateHz,
       });
+      // In the transaction: "done" and the recording commit together, or neither when cancelled.
+      const [done] = await tx
+        .update(importJob)
+        .set({ state: "done", bytesRead, frames, recordingId: id, updatedAt: new Date() })
+        .where(stillRunning)
+        .returning({ id: importJob.id });
+      if (!done) throw new ImportCancelled();
     });
-    await db
-      .update(importJob)
-      .set({ state: "done", bytesRead, frames, recordingId, updatedAt: new Date() })
-      .where(eq(importJob.id, importId));
+    await progress;
   } catch (error) {
+    await progress;
+    if (error instanceof ImportCancelled) {
+      // The cancel route deleted the file already; again here in case it ran on a dead worker's job.
+      await storage.delete(job.storageKey).catch(() => {});
+      return;
+    }
     const refused = error instanceof RecordingError;
     if (!refused) console.error(`[import ${importId}] failed:`, error);
     await db
@@ -142,7 +185,7 @@ export async function runImport(deps: ImportDeps, importId: string): Promise<voi
         errorCode: refused ? error.code : "internal",
         updatedAt: new Date(),
       })
-      .where(eq(importJob.id, importId));
+      .where(stillRunning);
   }
 }
 

@@ -1,9 +1,7 @@
 import { Router } from "express";
-import { desc, eq } from "drizzle-orm";
 import { z } from "zod";
 import { startCaptureBody, type CaptureView } from "../../shared/api/recordings";
 import { entityId } from "../../shared/api/workshops";
-import { capture } from "../db/schema";
 import { requireActor, requireMembership, type Services } from "../http/context";
 import { forbidden, notFound } from "../http/errors";
 import { parseBody, parseParams } from "../http/validate";
@@ -40,14 +38,8 @@ export function capturesRouter(services: Services) {
   router.get("/:workshopId/captures", async (req, res) => {
     const { workshopId } = parseParams(req, workshopParams);
     authorize(capturePolicy.read(await requireMembership(services, await requireActor(services, req), workshopId)), forbidden);
-    const rows = await db
-      .select({ id: capture.id })
-      .from(capture)
-      .where(eq(capture.workshopId, workshopId))
-      .orderBy(desc(capture.startedAt))
-      .limit(100);
-    const views = await Promise.all(rows.map((r) => captures.view(workshopId, r.id)));
-    res.json(views.filter((v) => v !== null));
+    // Captures whose process is gone are marked interrupted first (server/capture/manager.ts).
+    res.json(await captures.list(workshopId));
   });
 
   router.get("/:workshopId/captures/:captureId", async (req, res) => {

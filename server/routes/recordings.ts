@@ -1,7 +1,8 @@
 import { randomUUID } from "node:crypto";
 import { PassThrough } from "node:stream";
+import { pipeline } from "node:stream/promises";
 import { Router, type Request, type Response } from "express";
-import { and, desc, eq } from "drizzle-orm";
+import { and, desc, eq, inArray } from "drizzle-orm";
 import { z } from "zod";
 import {
   downloadQuery,
@@ -38,6 +39,7 @@ import { addDraftChannels, checkAgainstCatalogue } from "../recordings/catalogue
 import { csvFrameLine, csvHeaderLine } from "../recordings/csv-export";
 import { framesOf, seriesOf, stateAtInstant } from "../recordings/read";
 import { RecordingWriter } from "../recordings/writer";
+import { StorageNotFound } from "../storage";
 import { findAirframe } from "./airframes";
 
 const workshopParams = z.object({ workshopId: entityId });
@@ -57,6 +59,7 @@ const summaryColumns = {
   sizeBytes: recording.sizeBytes,
   createdBy: user.name,
   createdAt: recording.createdAt,
+  originalKey: recording.originalKey,
 };
 
 type SummaryRow = {
@@ -72,6 +75,7 @@ type SummaryRow = {
   sizeBytes: number;
   createdBy: string | null;
   createdAt: Date;
+  originalKey: string | null;
 };
 
 function summaryOf(row: SummaryRow): RecordingSummary {
@@ -89,7 +93,43 @@ function summaryOf(row: SummaryRow): RecordingSummary {
     sizeBytes: row.sizeBytes,
     createdBy: row.createdBy,
     createdAt: row.createdAt.toISOString(),
+    hasOriginal: row.originalKey !== null,
   };
+}
+
+/** An import not (yet) a recording, as a row of the recordings table: importing, or failed with its reason. */
+function importRowOf(row: typeof importJob.$inferSelect & { airframeName: string; createdBy: string | null }): RecordingSummary {
+  const failed = row.state === "failed";
+  return {
+    id: row.id,
+    importId: row.id,
+    name: row.name,
+    airframeId: row.airframeId,
+    airframeName: row.airframeName,
+    source: row.format === "csv" ? "csv" : "file",
+    status: failed ? "failed" : "importing",
+    durationMs: 0,
+    frameCount: row.frames,
+    channelCount: 0,
+    frameRate: 0,
+    sizeBytes: row.bytesTotal,
+    createdBy: row.createdBy,
+    createdAt: row.createdAt.toISOString(),
+    failure: failed ? { message: row.errorMessage ?? "the import failed", where: row.errorWhere, code: row.errorCode } : null,
+    hasOriginal: false,
+  };
+}
+
+/** The stored upload's content type: what its first bytes and the chosen format say. */
+function uploadContentType(firstBytes: Buffer, format: "ppr" | "csv"): string {
+  if (firstBytes.length >= 2 && firstBytes[0] === 0x1f && firstBytes[1] === 0x8b) return "application/gzip";
+  return format === "csv" ? "text/csv" : "application/x-ndjson";
+}
+
+/** A Content-Disposition header value for a download name (RFC 6266: plain fallback plus UTF-8 form). */
+function attachment(fileName: string): string {
+  const plain = fileName.replace(/[^A-Za-z0-9._-]+/g, "-").replace(/^-+|-+$/g, "") || "recording";
+  return `attachment; filename="${plain}"; filename*=UTF-8''${encodeURIComponent(fileName)}`;
 }
 
 function importViewOf(row: typeof importJob.$inferSelect): ImportJobView {
@@ -156,7 +196,23 @@ export function recordingsRouter(services: Services) {
       .leftJoin(user, eq(user.id, recording.createdById))
       .where(and(...where))
       .orderBy(desc(recording.createdAt));
-    res.json(rows.map(summaryOf));
+    const summaries = rows.map(summaryOf);
+    if (query.withImports === "true" && query.source !== "capture" && query.source !== "scenario") {
+      const jobWhere = [eq(importJob.workshopId, workshopId), inArray(importJob.state, ["queued", "running", "failed"])];
+      if (query.airframeId) jobWhere.push(eq(importJob.airframeId, query.airframeId));
+      if (query.source) jobWhere.push(eq(importJob.format, query.source === "csv" ? "csv" : "ppr"));
+      const jobs = await db
+        .select({ job: importJob, airframeName: airframe.name, createdBy: user.name })
+        .from(importJob)
+        .innerJoin(airframe, eq(airframe.id, importJob.airframeId))
+        .leftJoin(user, eq(user.id, importJob.createdById))
+        .where(and(...jobWhere))
+        .orderBy(desc(importJob.createdAt))
+        .limit(100);
+      summaries.push(...jobs.map((j) => importRowOf({ ...j.job, airframeName: j.airframeName, createdBy: j.createdBy })));
+      summaries.sort((a, b) => b.createdAt.localeCompare(a.createdAt));
+    }
+    res.json(summaries);
   });
 
   /**
@@ -181,6 +237,7 @@ export function recordingsRouter(services: Services) {
     let received = 0;
     let over = false;
     let ended = false;
+    let firstBytes = Buffer.alloc(0);
     const requestDone = new Promise<void>((resolve) => {
       req.on("end", () => {
         ended = true;
@@ -196,6 +253,7 @@ export function recordingsRouter(services: Services) {
         received += chunk.length;
         return;
       }
+      if (firstBytes.length < 2) firstBytes = Buffer.concat([firstBytes, chunk.subarray(0, 2)]);
       received += chunk.length;
       if (received > max) {
         over = true;
@@ -213,7 +271,9 @@ export function recordingsRouter(services: Services) {
     });
     let bytes = 0;
     try {
-      ({ bytes } = await storage.put(key, body));
+      // An upload the client abandons (cancel, closed tab) ends here: `close` without `end`
+      // destroys `body`, put() rejects, and the partial file is deleted below. No job is made.
+      ({ bytes } = await storage.put(key, body, "application/octet-stream"));
       if (over) throw new UploadTooLarge();
     } catch (error) {
       await storage.delete(key).catch(() => {});
@@ -231,9 +291,11 @@ export function recordingsRouter(services: Services) {
       throw new HttpError("validation_failed", "body: the file is empty", [{ path: "body", message: "the file is empty" }]);
     }
     const options: Record<string, string> = {};
-    for (const k of ["delimiter", "decimalMark", "timeColumn", "timeUnit", "addDraftChannels"] as const) {
+    for (const k of ["delimiter", "decimalMark", "timeColumn", "timeUnit", "addDraftChannels", "fileName"] as const) {
       if (query[k] !== undefined) options[k] = query[k]!;
     }
+    // Kept for GET .../original: the file goes back with the type it was sent as.
+    options.contentType = uploadContentType(firstBytes, query.format);
     const [row] = await db
       .insert(importJob)
       .values({
@@ -274,6 +336,30 @@ export function recordingsRouter(services: Services) {
     const [row] = await db.select().from(importJob).where(and(eq(importJob.id, importId), eq(importJob.workshopId, workshopId)));
     if (!row) throw notFound("No such import in this workshop.");
     res.json(importViewOf(row));
+  });
+
+  /**
+   * Cancels a queued or running import: the job is marked cancelled at once (one conditional
+   * UPDATE, so it races safely with the worker finishing), the stored file is deleted, and a
+   * running worker notices at its next progress write and rolls its transaction back
+   * (server/jobs/import-recording.ts). A job that already finished answers 409.
+   */
+  router.post("/:workshopId/imports/:importId/cancel", async (req, res) => {
+    const { workshopId, importId } = parseParams(req, importParams);
+    authorize(recordingPolicy.create(await member(req, workshopId)), forbidden);
+    const [row] = await db.select().from(importJob).where(and(eq(importJob.id, importId), eq(importJob.workshopId, workshopId)));
+    if (!row) throw notFound("No such import in this workshop.");
+    const [cancelled] = await db
+      .update(importJob)
+      .set({ state: "cancelled", errorMessage: "cancelled by a builder; nothing was kept", errorCode: "cancelled", updatedAt: new Date() })
+      .where(and(eq(importJob.id, importId), inArray(importJob.state, ["queued", "running"])))
+      .returning();
+    if (!cancelled) {
+      const [now] = await db.select({ state: importJob.state }).from(importJob).where(eq(importJob.id, importId));
+      throw new HttpError("conflict", `This import has already ended (${now?.state ?? row.state}); there is nothing to cancel.`);
+    }
+    await storage.delete(row.storageKey).catch((e) => console.error("[storage] delete failed:", e));
+    res.json(importViewOf(cancelled));
   });
 
   /** Generates deterministically from the scenario and stores the result as a recording. */
@@ -330,6 +416,37 @@ export function recordingsRouter(services: Services) {
     await findRecording(workshopId, recordingId);
     const { state } = await stateAtInstant(db, recordingId, t);
     res.json({ t, values: { ...state } });
+  });
+
+  /** The originally uploaded file, streamed from the storage driver as it was sent. */
+  router.get("/:workshopId/recordings/:recordingId/original", async (req, res) => {
+    const { workshopId, recordingId } = parseParams(req, recordingParams);
+    authorize(recordingPolicy.read(await member(req, workshopId)), forbidden);
+    const row = await findRecording(workshopId, recordingId);
+    if (!row.originalKey) throw notFound("This recording was not uploaded (it was captured or generated); there is no original file.");
+    const [job] = await db
+      .select({ options: importJob.options, format: importJob.format })
+      .from(importJob)
+      .where(and(eq(importJob.recordingId, recordingId), eq(importJob.workshopId, workshopId)))
+      .limit(1);
+    let stream;
+    try {
+      stream = await storage.get(row.originalKey);
+    } catch (error) {
+      if (error instanceof StorageNotFound) throw notFound("The original file is no longer in storage.");
+      throw error;
+    }
+    const format = job?.format === "csv" || row.source === "csv" ? "csv" : "ppr";
+    const contentType = job?.options.contentType ?? (format === "csv" ? "text/csv" : "application/x-ndjson");
+    const fallbackName = `${row.name}.${format === "csv" ? "csv" : "ppr.jsonl"}${contentType === "application/gzip" ? ".gz" : ""}`;
+    const size = await storage.size(row.originalKey);
+    res.setHeader("Content-Type", contentType);
+    res.setHeader("Content-Disposition", attachment(job?.options.fileName ?? fallbackName));
+    if (size !== null) res.setHeader("Content-Length", String(size));
+    // A client that goes away mid-download ends the pipeline; the headers are gone, nothing to answer.
+    await pipeline(stream, res).catch((error: NodeJS.ErrnoException) => {
+      if (error.code !== "ERR_STREAM_PREMATURE_CLOSE") console.error("[recordings] original download failed:", error.message);
+    });
   });
 
   router.get("/:workshopId/recordings/:recordingId/download", async (req, res) => {

@@ -57,12 +57,29 @@ export const recordingSummary = z.object({
   sizeBytes: z.number().int(),
   createdBy: z.string().nullable(),
   createdAt: z.string(),
+  /**
+   * Additive. Rows of imports (status importing or failed, only with `withImports=true`): the
+   * import job's id, which is also the row's `id`; such a row is not a recording to open.
+   */
+  importId: z.string().optional(),
+  /** Additive. A failed import's reason: why, and where (line or row, column, channel). */
+  failure: z.object({ message: z.string(), where: z.string().nullable(), code: z.string().nullable() }).nullable().optional(),
+  /** Additive. True when the originally uploaded file is kept (GET .../original). */
+  hasOriginal: z.boolean().optional(),
 });
 export type RecordingSummary = z.infer<typeof recordingSummary>;
 
-/** GET /recordings?airframeId=&source= */
+/**
+ * GET /recordings?airframeId=&source=&withImports=
+ * `withImports=true` adds the imports still queued or running (status "importing") and the
+ * failed ones (status "failed", with `failure`) as rows, newest first with the recordings.
+ */
 export const listRecordingsQuery = z
-  .object({ airframeId: entityId.optional(), source: z.enum(RECORDING_SOURCES).optional() })
+  .object({
+    airframeId: entityId.optional(),
+    source: z.enum(RECORDING_SOURCES).optional(),
+    withImports: z.enum(["true", "false"], { error: 'must be "true" or "false"' }).optional(),
+  })
   .strict();
 
 export const recordingChannelStats = z.object({
@@ -76,6 +93,11 @@ export const recordingChannelStats = z.object({
   max: z.number().nullable(),
   /** Booleans, enums and texts: the distinct values seen (at most 50). */
   distinct: z.array(z.union([z.string(), z.boolean()])).nullable(),
+  /**
+   * Additive. Enums: every named value of the channel, in its order, with how many frames set
+   * it (0: never occurs). Null for other kinds; absent on recordings stored before it existed.
+   */
+  valueCounts: z.array(z.object({ value: z.string(), count: z.number().int() })).nullable().optional(),
 });
 export type RecordingChannelStats = z.infer<typeof recordingChannelStats>;
 
@@ -115,6 +137,12 @@ export type SeriesView = z.infer<typeof seriesView>;
 export const stateQuery = z.object({ t: z.coerce.number().int().min(0) }).strict();
 export const stateView = z.object({ t: z.number(), values: z.record(z.string(), z.union([z.number(), z.boolean(), z.string()])) });
 
+/**
+ * GET /recordings/:recordingId/original: the file as it was uploaded, byte for byte, with its
+ * own name (when the upload gave one) and a content type from its format (gzip when packed).
+ * 404 when nothing was uploaded (scenarios, captures).
+ */
+
 /** GET /recordings/:recordingId/download?format=ppr|csv */
 export const downloadQuery = z.object({ format: z.enum(["ppr", "csv"]).default("ppr") }).strict();
 
@@ -136,6 +164,13 @@ export const uploadQuery = z
     timeUnit: z.enum(["ms", "s"]).optional(),
     /** Add channels missing from the catalogue as drafts instead of refusing them. */
     addDraftChannels: z.enum(["true", "false"]).optional(),
+    /** Additive: the uploaded file's own name, given back when the original is downloaded. */
+    fileName: z
+      .string()
+      .min(1, "must not be empty")
+      .max(255, "must be at most 255 characters")
+      .refine((n) => !/[\/\\\u0000-\u001f\u007f"]/.test(n), "must be a bare file name: no folders, quotes or control characters")
+      .optional(),
   })
   .strict()
   .superRefine((q, ctx) => {
@@ -145,7 +180,8 @@ export const uploadQuery = z
   });
 export const CSV_DELIMITER_BY_NAME = { comma: CSV_DELIMITERS[0], semicolon: CSV_DELIMITERS[1], tab: CSV_DELIMITERS[2], pipe: CSV_DELIMITERS[3] } as const;
 
-export const IMPORT_STATES = ["queued", "running", "done", "failed"] as const;
+/** `cancelled`: stopped by a builder (POST /imports/:id/cancel); no recording, the stored file deleted. */
+export const IMPORT_STATES = ["queued", "running", "done", "failed", "cancelled"] as const;
 
 /** GET /imports/:importId (poll it; survives a page reload) */
 export const importJobView = z.object({
@@ -174,6 +210,11 @@ export type ImportJobView = z.infer<typeof importJobView>;
 
 /** GET /imports: this workshop's recent imports, newest first. */
 
+/**
+ * POST /imports/:importId/cancel (builders): a queued or running import stops; nothing is kept.
+ * 409 when it has already finished (done, failed or cancelled).
+ */
+
 // ---- scenarios ------------------------------------------------------------------------------
 
 /** POST /recordings/from-scenario: generates deterministically (shared/recording/scenario). */
@@ -188,10 +229,16 @@ export const startCaptureBody = z
   .object({ name: z.string().trim().min(1).max(120), airframeId: entityId, udpPort: z.number().int().min(0).max(65535).optional() })
   .strict();
 
+/**
+ * `interrupted`: the server process holding the capture stopped without saving it (it no longer
+ * stamps the row); the counters are those of its last stamp and what arrived was lost.
+ */
+export const CAPTURE_STATES = ["capturing", "stopped", "saved", "failed", "interrupted"] as const;
+
 export const captureView = z.object({
   id: z.string(),
   name: z.string(),
-  state: z.enum(["capturing", "stopped", "saved", "failed"]),
+  state: z.enum(CAPTURE_STATES),
   udpPort: z.number().int().nullable(),
   /** WebSocket path for exporters that prefer it: same JSON messages as the datagrams. */
   webSocketPath: z.string(),
@@ -215,6 +262,8 @@ export const captureView = z.object({
    * `token` field, or as `?token=` on the WebSocket URL (docs/capture.md).
    */
   token: z.string().optional(),
+  /** Additive: when listening ended (stopped, saved, failed or found interrupted). */
+  stoppedAt: z.string().nullable().optional(),
 });
 export type CaptureView = z.infer<typeof captureView>;
 

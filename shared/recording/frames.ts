@@ -109,32 +109,28 @@ export class FrameSequencer {
     const pending = this.pending!;
     this.pending = null;
     const state = this.state;
-    // Usually every value changed: then the pending object itself becomes the frame, no copy.
-    let allChanged = true;
-    let any = false;
-    for (const channel in pending) {
-      any = true;
-      if (state.get(channel) === pending[channel]) {
-        allChanged = false;
-        break;
-      }
-    }
-    if (!any) return null;
+    // One pass. Usually every value changed: then the pending object itself becomes the frame,
+    // no copy. At the first value equal to the state, the changes so far move to a fresh object.
     let changed: Record<string, ChannelValue> | null = null;
-    if (allChanged) {
-      for (const channel in pending) state.set(channel, pending[channel]);
-      changed = pending;
-    } else {
-      for (const channel in pending) {
-        const value = pending[channel];
-        if (state.get(channel) === value) continue;
-        state.set(channel, value);
-        changed ??= {};
-        changed[channel] = value;
+    let changes = 0;
+    for (const channel in pending) {
+      const value = pending[channel];
+      if (state.get(channel) === value) {
+        if (changed === null) {
+          changed = {};
+          for (const earlier in pending) {
+            if (earlier === channel) break;
+            changed[earlier] = pending[earlier];
+          }
+        }
+        continue;
       }
+      state.set(channel, value);
+      changes++;
+      if (changed !== null) changed[channel] = value;
     }
-    if (!changed) return null;
+    if (changes === 0) return null;
     this.emitted++;
-    return { t: this.pendingT, v: changed };
+    return { t: this.pendingT, v: changed ?? pending };
   }
 }

@@ -6,7 +6,7 @@ import { Button, Card, ErrorNote, Field, Loading, Select } from "../components/u
 import { ApiError } from "../lib/api";
 import { Fact, RecordingsNav, StatusMark } from "../features/recordings/components";
 import { formatCount, formatCreated, formatValue } from "../features/recordings/format";
-import { useAirframes, useCapture, useStartCapture, useStopCapture } from "../features/recordings/queries";
+import { useAirframes, useCapture, useCaptures, useStartCapture, useStopCapture } from "../features/recordings/queries";
 
 const tokenKey = (captureId: string) => `panelproof.capture-token.${captureId}`;
 
@@ -15,6 +15,7 @@ const CAPTURE_MARKS: Record<CaptureView["state"], { glyph: string; word: string;
   stopped: { glyph: "■", word: "stopped, nothing arrived", tone: "text-ink-soft" },
   saved: { glyph: "●", word: "saved as a recording", tone: "text-good" },
   failed: { glyph: "▲", word: "failed", tone: "text-bad" },
+  interrupted: { glyph: "◆", word: "interrupted, not saved", tone: "text-bad" },
 };
 
 /** Start listening for a simulator exporter's values. */
@@ -98,7 +99,71 @@ export function CaptureStart() {
           </Card>
         </div>
       )}
+      <PastCaptures workshopId={w.id} />
     </div>
+  );
+}
+
+/** Every capture of the workshop, newest first: how it ended, its counters, and the recording it became. */
+function PastCaptures({ workshopId }: { workshopId: string }) {
+  const captures = useCaptures(workshopId);
+  return (
+    <section className="mt-8" aria-labelledby="past-captures">
+      <h3 id="past-captures" className="mb-3 text-lg font-bold tracking-tight">Captures</h3>
+      {captures.isPending ? (
+        <Loading what="Loading captures" />
+      ) : captures.error ? (
+        <ErrorNote error={captures.error} />
+      ) : captures.data.length === 0 ? (
+        <p className="text-sm text-ink-soft">No capture yet. The ones you start are listed here, with what arrived and the recording each became.</p>
+      ) : (
+        <div className="overflow-x-auto rounded-lg border border-rule bg-card">
+          <table className="w-full text-left text-sm" aria-label="Captures">
+            <thead className="border-b border-rule bg-paper/60 text-ink-soft">
+              <tr>
+                <th scope="col" className="px-3 py-2 font-semibold">Name</th>
+                <th scope="col" className="px-3 py-2 font-semibold">State</th>
+                <th scope="col" className="px-3 py-2 text-right font-semibold">Received</th>
+                <th scope="col" className="px-3 py-2 text-right font-semibold">Malformed</th>
+                <th scope="col" className="px-3 py-2 text-right font-semibold">Out of order</th>
+                <th scope="col" className="px-3 py-2 text-right font-semibold">Duplicates</th>
+                <th scope="col" className="px-3 py-2 font-semibold">Started</th>
+                <th scope="col" className="px-3 py-2 font-semibold">Recording</th>
+              </tr>
+            </thead>
+            <tbody>
+              {captures.data.map((c) => (
+                <tr key={c.id} className="border-b border-rule/60 last:border-0" aria-label={`Capture ${c.name}`}>
+                  <td className="px-3 py-2">
+                    <Link to={`/w/${workshopId}/recordings/capture/${c.id}`} className="font-semibold text-ink underline decoration-amber/60 underline-offset-2">
+                      {c.name}
+                    </Link>
+                  </td>
+                  <td className="px-3 py-2">
+                    <StatusMark mark={CAPTURE_MARKS[c.state]} />
+                    {c.state === "interrupted" && c.lastError && <span className="block text-xs text-ink-soft">{c.lastError}</span>}
+                  </td>
+                  <td className="px-3 py-2 text-right font-mono">{formatCount(c.received)}</td>
+                  <td className="px-3 py-2 text-right font-mono">{formatCount(c.malformed)}</td>
+                  <td className="px-3 py-2 text-right font-mono">{formatCount(c.outOfOrder)}</td>
+                  <td className="px-3 py-2 text-right font-mono">{formatCount(c.duplicates)}</td>
+                  <td className="px-3 py-2 whitespace-nowrap">{formatCreated(c.startedAt)}</td>
+                  <td className="px-3 py-2">
+                    {c.recordingId ? (
+                      <Link to={`/w/${workshopId}/recordings/${c.recordingId}`} className="font-semibold text-ink underline decoration-amber/60 underline-offset-2">
+                        Open the recording
+                      </Link>
+                    ) : (
+                      <span className="text-ink-soft">{c.state === "capturing" ? "when stopped" : "none"}</span>
+                    )}
+                  </td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      )}
+    </section>
   );
 }
 
@@ -158,7 +223,7 @@ export function CaptureLive() {
           {c.lastError && (
             <p className="rounded-md border border-bad/40 bg-bad/5 px-3 py-2 text-sm text-bad">
               <span aria-hidden="true" className="mr-1 font-mono">▲</span>
-              <span className="font-semibold">Last refused message: </span>
+              <span className="font-semibold">{c.state === "interrupted" ? "Interrupted: " : "Last refused message: "}</span>
               <span className="font-mono text-xs">{c.lastError}</span>
             </p>
           )}

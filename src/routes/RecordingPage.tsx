@@ -9,6 +9,7 @@ import { ConfirmButton, Fact, RecordingStatus, RecordingsNav } from "../features
 import { formatBytes, formatCount, formatCreated, formatDuration, formatRate, formatValue, parseDuration } from "../features/recordings/format";
 import {
   recordingDownloadUrl,
+  recordingOriginalUrl,
   useAirframe,
   useDeleteRecording,
   useRecording,
@@ -91,6 +92,16 @@ function RecordingView({ workshopId, recording: r, canWrite }: { workshopId: str
           <a href={recordingDownloadUrl(workshopId, r.id, "csv")} download className="rounded-md border border-rule bg-card px-3 py-2 text-sm font-semibold text-ink no-underline hover:bg-paper">
             Download CSV
           </a>
+          {r.hasOriginal && (
+            <a
+              href={recordingOriginalUrl(workshopId, r.id)}
+              download
+              title="The file exactly as it was uploaded"
+              className="rounded-md border border-rule bg-card px-3 py-2 text-sm font-semibold text-ink no-underline hover:bg-paper"
+            >
+              Download the uploaded original
+            </a>
+          )}
           {canWrite && !renaming && <Button onClick={() => { setNewName(r.name); setRenaming(true); }}>Rename</Button>}
           {canWrite && (
             <ConfirmButton
@@ -203,7 +214,7 @@ function Explorer({ workshopId, recording: r, channels }: { workshopId: string; 
                   <th className="py-2 pr-3 font-semibold">Kind</th>
                   <th className="py-2 pr-3 font-semibold">Unit</th>
                   <th className="py-2 pr-3 text-right font-semibold">Changes</th>
-                  <th className="py-2 font-semibold">Range or values seen</th>
+                  <th className="py-2 font-semibold">Range or values seen (enums: times set)</th>
                 </tr>
               </thead>
               <tbody>
@@ -241,6 +252,8 @@ function Explorer({ workshopId, recording: r, channels }: { workshopId: string; 
 }
 
 function describeRange(c: RecordingChannelStats): string {
+  // Enums: every named value with how many times the recording sets it (×0: never, worth knowing before a test).
+  if (c.kind === "enum" && c.valueCounts) return c.valueCounts.map((v) => `${v.value} ×${formatCount(v.count)}`).join(", ");
   if (c.kind === "number") return c.min === null || c.max === null ? "never set" : `${formatValue(c.min)} to ${formatValue(c.max)}${c.unit ? ` ${c.unit}` : ""}`;
   if (!c.distinct || c.distinct.length === 0) return "never set";
   return c.distinct.map((v) => (typeof v === "boolean" ? String(v) : c.kind === "text" ? JSON.stringify(v) : v)).join(", ");

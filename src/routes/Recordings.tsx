@@ -3,7 +3,7 @@ import { useOutletContext } from "react-router";
 import type { WorkshopDetail } from "../../shared/api/workshops";
 import { Button, ErrorNote, Loading } from "../components/ui";
 import { RecordingsNav } from "../features/recordings/components";
-import { useAirframes, useImports, useRecordings } from "../features/recordings/queries";
+import { useAirframes, useImports, useRecordingsWithImports } from "../features/recordings/queries";
 import { RecordingsTable } from "../features/recordings/RecordingsTable";
 import { ImportList, UploadForm } from "../features/recordings/Upload";
 
@@ -13,7 +13,8 @@ export function Recordings() {
   const canWrite = w.abilities.includes("bench.write");
   const imports = useImports(w.id);
   const importing = (imports.data ?? []).some((j) => j.state === "queued" || j.state === "running");
-  const recordings = useRecordings(w.id, importing);
+  // The table also shows imports in flight and failed ones (with where and why) as rows.
+  const recordings = useRecordingsWithImports(w.id, importing);
   const airframes = useAirframes(w.id);
   const [uploading, setUploading] = useState(false);
 
@@ -35,7 +36,7 @@ export function Recordings() {
       </div>
       <div className="flex flex-col gap-6">
         {canWrite && uploading && (airframes.isPending ? <Loading what="Loading airframes" /> : <UploadForm workshopId={w.id} airframes={airframes.data ?? []} onClose={() => setUploading(false)} />)}
-        {imports.data && imports.data.length > 0 && <ImportList workshopId={w.id} imports={imports.data} />}
+        {imports.data && imports.data.length > 0 && <ImportList workshopId={w.id} imports={imports.data} canWrite={canWrite} />}
         {recordings.isPending ? (
           <Loading what="Loading recordings" />
         ) : recordings.error ? (

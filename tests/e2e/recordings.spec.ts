@@ -115,6 +115,12 @@ test("a builder uploads a Panelproof file, watches its import progress and sees 
   const channels = page.getByRole("table", { name: "Channels of this recording" });
   await expect(channels.getByRole("row")).toHaveCount(6);
   await expect(channels.getByRole("row", { name: /alt\.baro_ft/ })).toContainText("500 to 1700 ft");
+  // Enum channels say how often each named value is set.
+  await expect(channels.getByRole("row", { name: /gear\.handle/ })).toContainText(/UP ×\d+, DOWN ×\d+|DOWN ×\d+, UP ×\d+/);
+  // The uploaded file itself comes back under its own name.
+  const original = page.getByRole("link", { name: "Download the uploaded original" });
+  const [download] = await Promise.all([page.waitForEvent("download"), original.click()]);
+  expect(download.suggestedFilename()).toBe("evening-circuit.ppr.jsonl");
 
   // Plotted: a strip with a drawn canvas per chosen channel.
   for (const name of ["alt.baro_ft", "ias_kt", "gear.handle", "annun.master_caution"]) {
@@ -226,6 +232,43 @@ test("a live capture counts what arrives over UDP, malformed and repeated messag
   await page.getByRole("link", { name: "Open the recording →" }).click();
   await expect(page.getByRole("heading", { name: "Kitchen-table circuit" })).toBeVisible();
   await expect(page.getByText("live capture", { exact: true })).toBeVisible();
+  // A Panelproof file is generated from the capture; there is no uploaded original to download.
+  await expect(page.getByRole("link", { name: "Download the uploaded original" })).toHaveCount(0);
+
+  // The capture page lists past captures with their counters and the recording each became.
+  await page.getByRole("link", { name: "Capture live" }).click();
+  const past = page.getByRole("table", { name: "Captures" });
+  const row = past.getByRole("row", { name: "Capture Kitchen-table circuit" });
+  await expect(row).toContainText("saved as a recording");
+  await expect(row.getByRole("cell").nth(2)).toHaveText("22");
+  await expect(row.getByRole("cell").nth(3)).toHaveText("1");
+  await expect(row.getByRole("cell").nth(5)).toHaveText("1");
+  await shot(page, "capture-list");
+  await row.getByRole("link", { name: "Open the recording" }).click();
+  await expect(page.getByRole("heading", { name: "Kitchen-table circuit" })).toBeVisible();
+});
+
+test("a builder cancels an upload while it is sending, and nothing is imported", async ({ page }) => {
+  await ownerWithAirframe(page, "Cancelled Upload Rig");
+  // Hold the upload in the browser so it is still sending when Cancel is pressed.
+  let held = false;
+  await page.route("**/recordings/uploads?**", () => {
+    held = true; // never answered: the request only ends by being aborted
+  });
+  const form = await openUpload(page);
+  await form.getByLabel("File", { exact: true }).setInputFiles({ name: "long-flight.ppr.jsonl", mimeType: "application/x-ndjson", buffer: Buffer.from(panelproofFile()) });
+  await form.getByLabel("Airframe").selectOption({ label: `${AIRFRAME} (0 channels)` });
+  await form.getByRole("button", { name: "Upload and import" }).click();
+  await expect(form.getByRole("button", { name: "Sending…" })).toBeDisabled();
+  await expect.poll(() => held).toBe(true);
+  await form.getByRole("button", { name: "Cancel upload" }).click();
+  await expect(form.getByTestId("upload-cancelled")).toContainText("Upload cancelled. Nothing was kept");
+  await expect(form.getByRole("button", { name: "Upload and import" })).toBeEnabled();
+  await expect(form.getByRole("button", { name: "Cancel upload" })).toHaveCount(0);
+  await shot(page, "recordings-upload-cancelled");
+  await page.unroute("**/recordings/uploads?**");
+  await expect(page.getByRole("list", { name: "Recent imports" })).toHaveCount(0);
+  await expect(page.getByText("No recordings yet.")).toBeVisible();
 });
 
 test("a CSV read with the wrong delimiter is refused, saying where and why", async ({ page }) => {
@@ -251,8 +294,13 @@ test("a CSV read with the wrong delimiter is refused, saying where and why", asy
   await expect(row.getByTestId("import-where")).toHaveText(/row 1/);
   await expect(row.getByTestId("import-why")).toContainText("choose ';' as the delimiter");
   await shot(page, "recordings-import-failed");
-  // All or nothing: no recording was made.
-  await expect(page.getByText("No recordings yet.")).toBeVisible();
+  // All or nothing: no recording was made. The table lists the failed import, with where and why, and nothing to open.
+  const table = page.getByRole("table", { name: "Recordings" });
+  const failed = table.getByRole("row", { name: /Semicolon file/ });
+  await expect(failed.getByTestId("recording-failure")).toContainText("failed");
+  await expect(failed.getByTestId("recording-failure")).toContainText(/Where: row 1/);
+  await expect(failed.getByTestId("recording-failure")).toContainText("choose ';' as the delimiter");
+  await expect(failed.getByRole("link")).toHaveCount(0);
 });
 
 async function post(request: APIRequestContext, path: string, data: unknown) {

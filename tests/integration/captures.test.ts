@@ -1,6 +1,9 @@
 import dgram from "node:dgram";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import WebSocket from "ws";
+import { randomUUID } from "node:crypto";
+import { eq } from "drizzle-orm";
+import { capture } from "../../server/db/schema";
 import { parseRecording } from "../../shared/recording/recording-file";
 import { cookieOf, getText, makeAirframe, startBench, type Bench } from "./recordings-support";
 
@@ -148,5 +151,78 @@ describe("WebSocket capture", () => {
     const detail = await bench.visitors.viewer.get(`${base}/recordings/${stopped.body.recordingId}`);
     expect(detail.body).toMatchObject({ source: "capture", frameCount: 3, durationMs: 500 });
     browser.close();
+  });
+});
+
+describe("captures whose process is gone", () => {
+  /** A capture row as another server process would have left it. */
+  async function heldElsewhere(name: string, aliveAgoMs: number | null) {
+    const id = randomUUID();
+    await bench.server.services.db.insert(capture).values({
+      id,
+      workshopId: bench.workshopId,
+      airframeId,
+      name,
+      state: "capturing",
+      udpPort: 40_000,
+      tokenHash: "0".repeat(64),
+      received: 42,
+      malformed: 3,
+      outOfOrder: 2,
+      duplicates: 1,
+      startedAt: new Date(Date.now() - 120_000),
+      heldBy: aliveAgoMs === null ? null : "another-process",
+      aliveAt: aliveAgoMs === null ? null : new Date(Date.now() - aliveAgoMs),
+    });
+    return id;
+  }
+
+  it("are marked interrupted when listed or shown, keeping their last counters; fresh ones elsewhere stay", async () => {
+    const dead = await heldElsewhere("Held by a dead process", 60_000);
+    const neverStamped = await heldElsewhere("Never stamped", null);
+    const elsewhere = await heldElsewhere("Held by a live process elsewhere", 500);
+
+    const list = await bench.visitors.viewer.get(`${base}/captures`);
+    expect(list.status).toBe(200);
+    const byId = new Map(list.body.map((c: { id: string }) => [c.id, c]));
+    expect(byId.get(dead)).toMatchObject({ state: "interrupted", received: 42, malformed: 3, outOfOrder: 2, duplicates: 1, recordingId: null });
+    expect((byId.get(dead) as { lastError: string }).lastError).toMatch(/stopped without saving/);
+    expect((byId.get(dead) as { stoppedAt: string | null }).stoppedAt).not.toBeNull();
+    expect(byId.get(neverStamped)).toMatchObject({ state: "interrupted" });
+    expect(byId.get(elsewhere)).toMatchObject({ state: "capturing" });
+    // Held elsewhere and alive: this process cannot stop it.
+    expect((await bench.visitors.builder.post(`${base}/captures/${elsewhere}/stop`)).status).toBe(409);
+
+    // Once its holder stops stamping, showing it is enough to mark it.
+    await bench.server.services.db.update(capture).set({ aliveAt: new Date(Date.now() - 30_000) }).where(eq(capture.id, elsewhere));
+    const shown = await bench.visitors.viewer.get(`${base}/captures/${elsewhere}`);
+    expect(shown.body.state).toBe("interrupted");
+    // An interrupted capture is over: stopping it changes nothing.
+    const stop = await bench.visitors.builder.post(`${base}/captures/${elsewhere}/stop`);
+    expect(stop.status).toBe(200);
+    expect(stop.body.state).toBe("interrupted");
+  });
+
+  it("a capture held here is stamped with this process and its counters, and never marked interrupted", async () => {
+    const started = await bench.visitors.builder.post(`${base}/captures`, { name: "Held here", airframeId });
+    const { id, udpPort, token } = started.body;
+    await sendAll(udpPort, [{ token, seq: 0, t: 0, v: { "alt.baro_ft": 100 } }, "{nope"]);
+    const stamped = await until(
+      async () => (await bench.server.services.db.select().from(capture).where(eq(capture.id, id)))[0],
+      (row) => row.received === 2,
+    );
+    expect(stamped.heldBy).toBe(bench.server.services.captures.processId);
+    expect(stamped.malformed).toBe(1);
+    expect(Date.now() - stamped.aliveAt!.getTime()).toBeLessThan(5_000);
+    // Even with an old stamp, this process's own live capture is left alone.
+    await bench.server.services.db.update(capture).set({ aliveAt: new Date(Date.now() - 60_000) }).where(eq(capture.id, id));
+    expect(await bench.server.services.captures.markInterrupted()).toBe(0);
+    const list = await bench.visitors.viewer.get(`${base}/captures`);
+    expect(list.body.find((c: { id: string }) => c.id === id)).toMatchObject({ state: "capturing", received: 2, malformed: 1 });
+    const stopped = await bench.visitors.builder.post(`${base}/captures/${id}/stop`);
+    expect(stopped.body.state).toBe("saved");
+    const [row] = await bench.server.services.db.select().from(capture).where(eq(capture.id, id));
+    expect(row.heldBy).toBeNull();
+    expect(row.state).toBe("saved");
   });
 });

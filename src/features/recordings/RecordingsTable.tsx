@@ -49,7 +49,8 @@ export function RecordingsTable({ workshopId, recordings, imports, canWrite }: P
   const rename = useRenameRecording(workshopId);
   const remove = useDeleteRecording(workshopId);
 
-  const importOf = useMemo(() => new Map(imports.filter((j) => j.recordingId).map((j) => [j.recordingId!, j])), [imports]);
+  // Import rows carry the job's id; its progress comes from the imports list.
+  const importOf = useMemo(() => new Map(imports.map((j) => [j.id, j])), [imports]);
   const airframes = useMemo(() => [...new Set(recordings.map((r) => r.airframeName))].sort(), [recordings]);
   const sources = useMemo(() => [...new Set(recordings.map((r) => r.source))].sort(), [recordings]);
 
@@ -58,7 +59,10 @@ export function RecordingsTable({ workshopId, recordings, imports, canWrite }: P
       column.accessor("name", {
         header: "Name",
         cell: (c) =>
-          renaming === c.row.original.id ? (
+          c.row.original.importId ? (
+            // An import, not (yet) a recording: nothing to open.
+            <span className="inline-block min-w-32 font-semibold text-ink-soft">{c.getValue()}</span>
+          ) : renaming === c.row.original.id ? (
             <RenameForm
               initial={c.getValue()}
               busy={rename.isPending}
@@ -75,13 +79,21 @@ export function RecordingsTable({ workshopId, recordings, imports, canWrite }: P
         header: "Status",
         cell: (c) => {
           const r = c.row.original;
-          const job = importOf.get(r.id);
+          const job = r.importId ? importOf.get(r.importId) : undefined;
           if (r.status === "importing") return <RecordingStatus status="importing">{job ? `${percent(job.bytesRead, job.bytesTotal)}%` : null}</RecordingStatus>;
           if (r.status === "failed") {
             return (
-              <RecordingStatus status="failed">
-                {job?.error ? [job.error.where, job.error.message].filter(Boolean).join(": ") : null}
-              </RecordingStatus>
+              <span className="flex max-w-md flex-col gap-0.5" data-testid="recording-failure">
+                <RecordingStatus status="failed">nothing was kept</RecordingStatus>
+                {r.failure && (
+                  <span className="text-xs">
+                    <span className="font-semibold">Where: </span>
+                    <span className="font-mono">{r.failure.where ?? "the whole file"}</span>
+                    <span className="font-semibold"> · Why: </span>
+                    {r.failure.message}
+                  </span>
+                )}
+              </span>
             );
           }
           return <RecordingStatus status="ready" />;
@@ -118,23 +130,24 @@ export function RecordingsTable({ workshopId, recordings, imports, canWrite }: P
             column.display({
               id: "actions",
               header: () => <span className="sr-only">Actions</span>,
-              cell: (c) => (
-                <span className="flex justify-end gap-2">
-                  {renaming !== c.row.original.id && (
-                    <Button className="px-2 py-1 text-xs" onClick={() => setRenaming(c.row.original.id)} aria-label={`Rename ${c.row.original.name}`}>
-                      Rename
-                    </Button>
-                  )}
-                  <ConfirmButton
-                    small
-                    label="Delete"
-                    question={`Delete “${c.row.original.name}”?`}
-                    confirmLabel="Delete for good"
-                    busy={remove.isPending}
-                    onConfirm={() => remove.mutate(c.row.original.id)}
-                  />
-                </span>
-              ),
+              cell: (c) =>
+                c.row.original.importId ? null : (
+                  <span className="flex justify-end gap-2">
+                    {renaming !== c.row.original.id && (
+                      <Button className="px-2 py-1 text-xs" onClick={() => setRenaming(c.row.original.id)} aria-label={`Rename ${c.row.original.name}`}>
+                        Rename
+                      </Button>
+                    )}
+                    <ConfirmButton
+                      small
+                      label="Delete"
+                      question={`Delete “${c.row.original.name}”?`}
+                      confirmLabel="Delete for good"
+                      busy={remove.isPending}
+                      onConfirm={() => remove.mutate(c.row.original.id)}
+                    />
+                  </span>
+                ),
             }),
           ]
         : []),
@@ -207,8 +220,8 @@ export function RecordingsTable({ workshopId, recordings, imports, canWrite }: P
         </label>
         <p className="ml-auto text-sm text-ink-soft" role="status">
           {rows.length === recordings.length
-            ? `${recordings.length} ${recordings.length === 1 ? "recording" : "recordings"}`
-            : `${rows.length} of ${recordings.length} recordings`}
+            ? countWords(recordings)
+            : `${rows.length} of ${recordings.length} rows`}
         </p>
       </div>
       <ErrorNote error={rename.error ?? remove.error} />
@@ -268,6 +281,14 @@ export function RecordingsTable({ workshopId, recordings, imports, canWrite }: P
       </div>
     </div>
   );
+}
+
+/** "3 recordings · 1 import": rows of imports (running or failed) are not recordings. */
+function countWords(rows: RecordingSummary[]): string {
+  const imports = rows.filter((r) => r.importId).length;
+  const recordings = rows.length - imports;
+  const words = `${recordings} ${recordings === 1 ? "recording" : "recordings"}`;
+  return imports > 0 ? `${words} · ${imports} ${imports === 1 ? "import" : "imports"}` : words;
 }
 
 function RenameForm({ initial, busy, onSave, onCancel }: { initial: string; busy: boolean; onSave: (name: string) => void; onCancel: () => void }) {

@@ -1,11 +1,11 @@
-import { useEffect, useId, useState, type FormEvent } from "react";
+import { useEffect, useId, useRef, useState, type FormEvent } from "react";
 import { Link } from "react-router";
 import type { AirframeSummary, ImportJobView } from "../../../shared/api/recordings";
 import { Button, Card, ErrorNote, Field, Select } from "../../components/ui";
 import { ApiError } from "../../lib/api";
 import { ImportState, ProgressBar } from "./components";
 import { formatBytes, formatCount, formatCreated, percent } from "./format";
-import { useImportJob, useUpload } from "./queries";
+import { useCancelImport, useImportJob, useUpload } from "./queries";
 import {
   DECIMAL_MARK_LABELS,
   DELIMITER_LABELS,
@@ -39,7 +39,11 @@ export function UploadForm({ workshopId, airframes, onClose }: { workshopId: str
   const [sent, setSent] = useState<{ sent: number; total: number } | null>(null);
   const [problem, setProblem] = useState<string | null>(null);
   const [fileKey, setFileKey] = useState(0);
+  const [cancelled, setCancelled] = useState(false);
   const upload = useUpload(workshopId);
+  // Aborting the transfer is the whole cancel: the server deletes what it stored and makes no import.
+  // Closing the form does not abort: the upload goes on and lands in Recent imports.
+  const sending = useRef<AbortController | null>(null);
 
   const airframe = airframes.find((a) => a.id === airframeId);
   // A new airframe has an empty catalogue: every channel of the first file is unknown to it.
@@ -72,6 +76,9 @@ export function UploadForm({ workshopId, airframes, onClose }: { workshopId: str
       return setProblem("A CSV import needs its delimiter and decimal mark chosen: Panelproof never guesses them.");
     }
     setSent({ sent: 0, total: file.size });
+    setCancelled(false);
+    const controller = new AbortController();
+    sending.current = controller;
     upload.mutate(
       {
         file,
@@ -80,9 +87,11 @@ export function UploadForm({ workshopId, airframes, onClose }: { workshopId: str
           airframeId,
           format,
           addDraftChannels: addDrafts,
+          fileName: file.name,
           csv: format === "csv" && delimiter && decimalMark ? { delimiter, decimalMark, timeColumn, timeUnit } : undefined,
         },
         onProgress: (s, total) => setSent({ sent: s, total }),
+        signal: controller.signal,
       },
       {
         onSuccess: () => {
@@ -93,8 +102,16 @@ export function UploadForm({ workshopId, airframes, onClose }: { workshopId: str
           setFileKey((k) => k + 1);
         },
         onError: () => setSent(null),
+        onSettled: () => {
+          if (sending.current === controller) sending.current = null;
+        },
       },
     );
+  }
+
+  function cancelSending() {
+    setCancelled(true);
+    sending.current?.abort();
   }
 
   if (airframes.length === 0) {
@@ -208,7 +225,14 @@ export function UploadForm({ workshopId, airframes, onClose }: { workshopId: str
         </label>
         <div className="flex flex-col gap-3 md:col-span-2">
           {problem && <ErrorNote error={new Error(problem)} />}
-          <ErrorNote error={upload.error ? explain(upload.error) : null} />
+          {cancelled && !upload.isPending ? (
+            <p role="status" className="text-sm text-ink-soft" data-testid="upload-cancelled">
+              <span aria-hidden="true" className="mr-1 font-mono">✕</span>
+              Upload cancelled. Nothing was kept; the file is still chosen if you want to send it again.
+            </p>
+          ) : (
+            <ErrorNote error={upload.error ? explain(upload.error) : null} />
+          )}
           {sent && (
             <ProgressBar
               label="Sending the file"
@@ -216,10 +240,15 @@ export function UploadForm({ workshopId, airframes, onClose }: { workshopId: str
               text={`Sending: ${formatBytes(sent.sent)} of ${formatBytes(sent.total)} · ${percent(sent.sent, sent.total)}%`}
             />
           )}
-          <div>
+          <div className="flex flex-wrap gap-2">
             <Button type="submit" tone="primary" disabled={upload.isPending}>
               {upload.isPending ? "Sending…" : "Upload and import"}
             </Button>
+            {upload.isPending && (
+              <Button type="button" onClick={cancelSending}>
+                Cancel upload
+              </Button>
+            )}
           </div>
         </div>
       </form>
@@ -235,22 +264,24 @@ function explain(error: Error): Error {
 }
 
 /** Imports of this workshop, newest first; each polls its own progress until done or failed. */
-export function ImportList({ workshopId, imports }: { workshopId: string; imports: ImportJobView[] }) {
+export function ImportList({ workshopId, imports, canWrite }: { workshopId: string; imports: ImportJobView[]; canWrite: boolean }) {
   if (imports.length === 0) return null;
   return (
     <Card title="Recent imports">
       <ul className="flex flex-col divide-y divide-rule/60" aria-label="Recent imports">
         {imports.slice(0, 8).map((job) => (
-          <ImportRow key={job.id} workshopId={workshopId} job={job} />
+          <ImportRow key={job.id} workshopId={workshopId} job={job} canWrite={canWrite} />
         ))}
       </ul>
     </Card>
   );
 }
 
-function ImportRow({ workshopId, job: initial }: { workshopId: string; job: ImportJobView }) {
+function ImportRow({ workshopId, job: initial, canWrite }: { workshopId: string; job: ImportJobView; canWrite: boolean }) {
   const { data: job } = useImportJob(workshopId, initial);
+  const cancel = useCancelImport(workshopId);
   const fraction = job.state === "done" ? 100 : percent(job.bytesRead, job.bytesTotal);
+  const inFlight = job.state === "queued" || job.state === "running";
   return (
     <li className="flex flex-col gap-2 py-3" aria-label={`Import of ${job.name}`}>
       <div className="flex flex-wrap items-baseline justify-between gap-3">
@@ -258,9 +289,16 @@ function ImportRow({ workshopId, job: initial }: { workshopId: string; job: Impo
         <span className="flex items-baseline gap-3 text-sm">
           <ImportState state={job.state} />
           <span className="text-ink-soft">{formatCreated(job.createdAt)}</span>
+          {canWrite && inFlight && (
+            <Button className="px-2 py-1 text-xs" disabled={cancel.isPending} onClick={() => cancel.mutate(job.id)} aria-label={`Cancel the import of ${job.name}`}>
+              {cancel.isPending ? "Cancelling…" : "Cancel import"}
+            </Button>
+          )}
         </span>
       </div>
-      {job.state !== "failed" && (
+      <ErrorNote error={cancel.error} />
+      {job.state === "cancelled" && <p className="text-sm text-ink-soft">Cancelled: no recording was made and the uploaded file was deleted.</p>}
+      {job.state !== "failed" && job.state !== "cancelled" && (
         <ProgressBar
           label={`Import of ${job.name}`}
           value={fraction}

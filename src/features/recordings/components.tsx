@@ -18,6 +18,7 @@ const IMPORT_MARKS: Record<ImportJobView["state"], Mark> = {
   running: { glyph: "◐", word: "reading", tone: "text-calm" },
   done: { glyph: "●", word: "done", tone: "text-good" },
   failed: { glyph: "▲", word: "failed", tone: "text-bad" },
+  cancelled: { glyph: "✕", word: "cancelled", tone: "text-ink-soft" },
 };
 
 export function StatusMark({ mark, children }: { mark: Mark; children?: ReactNode }) {

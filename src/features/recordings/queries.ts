@@ -68,6 +68,29 @@ export function useRecordings(workshopId: string, poll: boolean) {
   });
 }
 
+/** Cache key of the recordings table's list, which also holds imports in flight and failed ones. */
+const recordingsWithImportsKey = (workshopId: string) => [...queryKeys.recordings(workshopId), "with-imports"] as const;
+
+/** Both recordings lists (never a recording's own series or values, which do not change). */
+function refreshRecordingLists(qc: ReturnType<typeof useQueryClient>, workshopId: string) {
+  void qc.invalidateQueries({ queryKey: recordingsWithImportsKey(workshopId) });
+  return qc.invalidateQueries({ queryKey: queryKeys.recordings(workshopId), exact: true });
+}
+
+/**
+ * The recordings table: recordings plus imports still running and failed ones (with where and
+ * why), as rows (GET /recordings?withImports=true). Under the recordings key, so invalidating
+ * the recordings list refreshes it too.
+ */
+export function useRecordingsWithImports(workshopId: string, poll: boolean) {
+  return useQuery({
+    queryKey: recordingsWithImportsKey(workshopId),
+    queryFn: () => api.get<RecordingSummary[]>(`${base(workshopId)}/recordings?withImports=true`),
+    refetchInterval: poll ? 2000 : false,
+    refetchOnMount: "always",
+  });
+}
+
 export function useRecording(workshopId: string, recordingId: string) {
   return useQuery({
     queryKey: queryKeys.recording(workshopId, recordingId),
@@ -117,6 +140,9 @@ export function useStateAt(workshopId: string, recordingId: string, t: number | 
 export const recordingDownloadUrl = (workshopId: string, recordingId: string, format: "ppr" | "csv") =>
   `/api${base(workshopId)}/recordings/${recordingId}/download?format=${format}`;
 
+/** The file as it was uploaded (a plain link, so the browser saves it under its own name). */
+export const recordingOriginalUrl = (workshopId: string, recordingId: string) => `/api${base(workshopId)}/recordings/${recordingId}/original`;
+
 export function useRenameRecording(workshopId: string) {
   const qc = useQueryClient();
   return useMutation({
@@ -132,7 +158,7 @@ export function useDeleteRecording(workshopId: string) {
     mutationFn: (recordingId: string) => api.delete(`${base(workshopId)}/recordings/${recordingId}`),
     onSuccess: (_data, recordingId) => {
       qc.removeQueries({ queryKey: queryKeys.recording(workshopId, recordingId) });
-      return qc.invalidateQueries({ queryKey: queryKeys.recordings(workshopId) });
+      return refreshRecordingLists(qc, workshopId);
     },
   });
 }
@@ -145,7 +171,7 @@ export function useImports(workshopId: string) {
   });
 }
 
-const importFinished = (job: ImportJobView | undefined) => job?.state === "done" || job?.state === "failed";
+const importFinished = (job: ImportJobView | undefined) => job?.state === "done" || job?.state === "failed" || job?.state === "cancelled";
 
 /** Polls one import until it is done or failed; then refreshes the recordings table once. */
 export function useImportJob(workshopId: string, job: ImportJobView) {
@@ -155,7 +181,7 @@ export function useImportJob(workshopId: string, job: ImportJobView) {
     queryFn: async () => {
       const next = await api.get<ImportJobView>(`${base(workshopId)}/imports/${job.id}`);
       if (importFinished(next)) {
-        void qc.invalidateQueries({ queryKey: queryKeys.recordings(workshopId), exact: true });
+        void refreshRecordingLists(qc, workshopId);
         void qc.invalidateQueries({ queryKey: queryKeys.airframes(workshopId) });
       }
       return next;
@@ -168,14 +194,28 @@ export function useImportJob(workshopId: string, job: ImportJobView) {
   });
 }
 
+/** Sends the file; `signal` aborts the transfer (the server then keeps nothing of it). */
 export function useUpload(workshopId: string) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: { file: Blob; options: UploadOptions; onProgress: (sent: number, total: number) => void }) =>
-      uploadBytes<ImportJobView>(`${base(workshopId)}/recordings/uploads?${uploadSearch(input.options)}`, input.file, input.onProgress),
+    mutationFn: (input: { file: Blob; options: UploadOptions; onProgress: (sent: number, total: number) => void; signal?: AbortSignal }) =>
+      uploadBytes<ImportJobView>(`${base(workshopId)}/recordings/uploads?${uploadSearch(input.options)}`, input.file, input.onProgress, input.signal),
     onSuccess: (job) => {
       qc.setQueryData<ImportJobView[]>(queryKeys.imports(workshopId), (old) => [job, ...(old ?? []).filter((j) => j.id !== job.id)]);
-      void qc.invalidateQueries({ queryKey: queryKeys.recordings(workshopId), exact: true });
+      void refreshRecordingLists(qc, workshopId);
+    },
+  });
+}
+
+/** Cancels a queued or running import: no recording is made and the stored file is deleted. */
+export function useCancelImport(workshopId: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (importId: string) => api.post<ImportJobView>(`${base(workshopId)}/imports/${importId}/cancel`),
+    onSuccess: (job) => {
+      qc.setQueryData(queryKeys.importJob(workshopId, job.id), job);
+      qc.setQueryData<ImportJobView[]>(queryKeys.imports(workshopId), (old) => (old ?? []).map((j) => (j.id === job.id ? job : j)));
+      return refreshRecordingLists(qc, workshopId);
     },
   });
 }
@@ -201,6 +241,19 @@ export function useStartCapture(workshopId: string) {
 
 const captureLive = (c: CaptureView | undefined) => c?.state === "capturing";
 
+/** Cache key of the workshop's capture list (beside each capture's own key). */
+const capturesKey = (workshopId: string) => ["workshops", workshopId, "captures", "list"] as const;
+
+/** This workshop's captures, newest first; every 2 s while one of them is listening. */
+export function useCaptures(workshopId: string) {
+  return useQuery({
+    queryKey: capturesKey(workshopId),
+    queryFn: () => api.get<CaptureView[]>(`${base(workshopId)}/captures`),
+    refetchInterval: (q) => ((q.state.data ?? []).some(captureLive) ? 2000 : false),
+    refetchOnMount: "always",
+  });
+}
+
 /** A capture's counters and latest values, every 500 ms while it listens. */
 export function useCapture(workshopId: string, captureId: string) {
   return useQuery({
@@ -217,7 +270,8 @@ export function useStopCapture(workshopId: string, captureId: string) {
     mutationFn: () => api.post<CaptureView>(`${base(workshopId)}/captures/${captureId}/stop`),
     onSuccess: (view) => {
       qc.setQueryData(queryKeys.capture(workshopId, captureId), view);
-      return qc.invalidateQueries({ queryKey: queryKeys.recordings(workshopId), exact: true });
+      void qc.invalidateQueries({ queryKey: capturesKey(workshopId) });
+      return refreshRecordingLists(qc, workshopId);
     },
   });
 }

@@ -8,6 +8,8 @@ export interface UploadOptions {
   airframeId: string;
   format: "ppr" | "csv";
   addDraftChannels: boolean;
+  /** The file's own name, given back when the original is downloaded. */
+  fileName?: string;
   /** CSV only: chosen explicitly, never guessed. */
   csv?: { delimiter: CsvDelimiterName; decimalMark: DecimalMarkName; timeColumn?: string; timeUnit?: "ms" | "s" };
 }
@@ -33,6 +35,8 @@ export function uploadSearch(o: UploadOptions): string {
     if (o.csv.timeUnit) q.set("timeUnit", o.csv.timeUnit);
   }
   q.set("addDraftChannels", o.addDraftChannels ? "true" : "false");
+  const fileName = o.fileName && bareFileName(o.fileName);
+  if (fileName) q.set("fileName", fileName);
   return q.toString();
 }
 
@@ -46,4 +50,15 @@ export function nameFromFileName(name: string): string {
   const last = name.split(/[\\/]/).pop() ?? name;
   const bare = last.replace(/\.gz$/i, "").replace(/\.(ppr\.jsonl|jsonl|ppr|csv|tsv|json|txt)$/i, "");
   return bare.replace(/[_]+/g, " ").trim().slice(0, 120) || "Uploaded recording";
+}
+
+/**
+ * A file name the upload route accepts (shared/api/recordings.ts uploadQuery.fileName): the last
+ * path part, without quotes or control characters, at most 255 characters; null when nothing is left.
+ */
+export function bareFileName(name: string): string | null {
+  const last = name.split(/[\\/]/).pop() ?? "";
+  // eslint-disable-next-line no-control-regex
+  const clean = last.replace(/["\u0000-\u001f\u007f]/g, "").slice(0, 255);
+  return clean.length > 0 ? clean : null;
 }
