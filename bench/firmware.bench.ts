@@ -8,7 +8,7 @@ import type { BenchReport, BenchRow } from "./harness";
  * The firmware's own cost on an ATmega2560, from the emulator's exact cycle counter: the library
  * writes a section number into GPIOR0 around its work and the harness sums cycles per section
  * (firmware/src/pp_marks.h, firmware/sim/panel-sim.c); interrupts are counted apart, from the
- * CPU arriving at their vector to their RETI, so the Arduino core's UART interrupts are measured
+ * CPU arriving at their vector to their RETI, so the UART interrupts (the sketch's own, or the core's with Serial) are measured
  * too. The board is the bench-panel example built with 31 spare lamps: 40 elements, 42 channels.
  *
  * Yardsticks: the 16 MHz clock, and the 115,200 baud line (8N1: 11,520 bytes/s, common practice).
@@ -114,7 +114,7 @@ export async function run(): Promise<BenchReport> {
         metric: `encode the seen report answering it (${entries} entries, ${reportBytes} wire bytes)`,
         value: median(encode),
         unit: "cycles",
-        note: "includes asking all 40 elements what they show (pins read back) to find what changed, CRC and COBS",
+        note: "includes asking all 40 elements what they show (pins read back from the port registers) to find what changed, CRC and COBS",
       });
       if (count === 40) {
         updateBytes40 = updateBytes;
@@ -203,7 +203,7 @@ export async function run(): Promise<BenchReport> {
       unit: "fraction",
       target: "<= 0.5 (half the CPU left for steppers)",
       met: atLine <= 0.5,
-      note: `${Math.round(linkCycles / BURST).toLocaleString("en")} cycles per 40-value update, UART interrupts included; the previous estimate (marked sections plus 90 cycles a byte each way from the disassembly) gave about 0.45`,
+      note: `${Math.round(linkCycles / BURST).toLocaleString("en")} cycles per 40-value update, UART interrupts included; before the sketch drove UART0 itself and the library used a CRC table, direct port reads and one pass over a checked payload it was about 154,000 (0.63)`,
     });
     rows.push({
       metric: "CPU left for steppers at the line rate",

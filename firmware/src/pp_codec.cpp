@@ -504,24 +504,35 @@ void FrameBuilder::seenReport(uint8_t address, uint8_t sequence, bool hasApplied
 }
 
 bool FrameBuilder::addSeen(const SeenEntry& e) {
-  if (!ok_ || entryCount() == 255 || e.textLength > kMaxTextBytes || seenEntryBytes(e) > room()) return false;
-  u16(e.element);
-  u8(e.tag);
+  if (!ok_ || entryCount() == 255 || e.textLength > kMaxTextBytes) return false;
+  const uint8_t size = seenEntryBytes(e);
+  if (size > room()) return false;
+  // Room is known from here on: the entry is written straight into the buffer, without the
+  // per-field checks of u8()/u16() (a report of 40 entries is built for every update).
+  uint8_t* out = buffer_ + 1 + length_;
+  out[0] = (uint8_t)e.element;
+  out[1] = (uint8_t)(e.element >> 8);
+  out[2] = e.tag;
   switch (e.tag) {
     case SeenUnknown:
       break;
     case SeenPointerAngle:
     case SeenPointerSteps:
-      i32(e.value);
+      out[3] = (uint8_t)e.value;
+      out[4] = (uint8_t)((uint32_t)e.value >> 8);
+      out[5] = (uint8_t)((uint32_t)e.value >> 16);
+      out[6] = (uint8_t)((uint32_t)e.value >> 24);
       break;
     case SeenReadout:
-      text(e.text, e.textLength);
+      out[3] = e.textLength;
+      if (e.textLength) memcpy(out + 4, e.text, e.textLength);
       break;
     default:
-      u8((uint8_t)e.value);
+      out[3] = (uint8_t)e.value;
   }
+  length_ += size;
   buffer_[1 + countAt_]++;
-  return ok_;
+  return true;
 }
 
 void FrameBuilder::inputEvent(uint8_t address, uint8_t sequence) {

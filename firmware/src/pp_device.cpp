@@ -113,6 +113,7 @@ void LinkDevice::begin() {
   const uint32_t now = config_.millis();
   lastHeartbeatMs_ = now;
   lastScanMs_ = now;
+  lastLookMs_ = now;
   if (!bus()) {
     enqueue(KindHello);
     enqueue(KindInputs);
@@ -303,45 +304,59 @@ void LinkDevice::handleFrame() {
 }
 
 void LinkDevice::applyValueUpdate(const Frame& frame) {
-  ValueUpdateReader reader(frame);
-  if (reader.flags & kKeyframeBegin) {
+  // checkPayload has already read this payload whole (every entry's length, booleans 0 or 1,
+  // floats finite, text valid UTF-8 and short enough, nothing left over), so the values are
+  // taken straight from the bytes here, without a second round of bounds checks: at 40 values a
+  // frame that second reading cost as much as the first.
+  const uint8_t* at = frame.payload;
+  const uint8_t flags = at[0];
+  uint8_t count = at[1];
+  at += 2;
+  if (flags & kKeyframeBegin) {
     // A keyframe holds every channel: forget the old values first, so one missing from the
     // keyframe reads as unknown rather than stale.
     forgetValues();
     inKeyframe_ = true;
   }
-  ChannelValue value;
   bool unknownChannel = false, unsupported = false;
   uint16_t unknownSubject = 0, unsupportedSubject = 0;
-  while (reader.next(value)) {
-    if (value.channel >= channelCount_) {
-      if (!unknownChannel) unknownSubject = value.channel;
+  for (; count; count--) {
+    const uint16_t channel = (uint16_t)at[0] | ((uint16_t)at[1] << 8);
+    const uint8_t tag = at[2];
+    const uint8_t* value = at + 3;
+    // Entry sizes as the protocol has them: 1 byte for booleans and enums, 4 for ints and
+    // floats (little-endian, as both the AVR and the host store them), 1 + n for text.
+    const uint8_t size = tag == ValueInt || tag == ValueFloat ? 4 : (tag == ValueText ? (uint8_t)(1 + value[0]) : 1);
+    at = value + size;
+    if (channel >= channelCount_) {
+      if (!unknownChannel) unknownSubject = channel;
       unknownChannel = true;
       continue;
     }
-    Channel& c = channels_[value.channel];
-    bool takes = (c.accepts & (1 << value.tag)) != 0;
+    Channel& c = channels_[channel];
+    bool takes = (c.accepts & (uint8_t)(1u << tag)) != 0;
 #if !PP_FLOAT_VALUES
-    if (value.tag == ValueFloat) takes = false;
+    if (tag == ValueFloat) takes = false;
 #endif
-    if (value.tag == ValueText && !c.text) takes = false;
+    if (tag == ValueText && !c.text) takes = false;
     if (!takes) {
-      if (!unsupported) unsupportedSubject = value.channel;
+      if (!unsupported) unsupportedSubject = channel;
       unsupported = true;
       continue;
     }
-    c.tag = value.tag;
-    if (value.tag == ValueText) {
-      memcpy(c.text, value.text, value.textLength);
-      c.text[value.textLength] = 0;
-      c.v.i = value.textLength;
-    } else if (value.tag == ValueFloat) {
-      c.v.f = value.f;
+    c.tag = tag;
+    if (tag == ValueInt || tag == ValueFloat) {
+      memcpy(&c.v, value, 4);  // an int32 or a float32's bits: the same four bytes either way
+    } else if (tag == ValueText) {
+      const uint8_t length = value[0];
+      memcpy(c.text, value + 1, length);
+      c.text[length] = 0;
+      c.v.i = length;
     } else {
-      c.v.i = value.i;
+      c.v.i = value[0];
     }
   }
-  if (reader.flags & kKeyframeEnd) inKeyframe_ = false;
+  if (flags & kKeyframeEnd) inKeyframe_ = false;
   hasApplied_ = true;
   applied_ = frame.sequence;
   if (unknownChannel) enqueue(KindError, ErrUnknownChannel, unknownSubject);
@@ -350,7 +365,7 @@ void LinkDevice::applyValueUpdate(const Frame& frame) {
   PP_MARK(PP_MARK_FOLLOW);
   panel_.follow(channels_, channelCount_);
   PP_MARK(PP_MARK_FRAME);
-  if (reader.flags & kKeyframeBegin || reader.flags & kKeyframeEnd) forceElements();
+  if (flags & (kKeyframeBegin | kKeyframeEnd)) forceElements();
   // A direct link acknowledges every applied update with a report of what changed (possibly
   // nothing); on a bus the answer to this frame does the same.
   if (!bus()) enqueue(KindSeen);
@@ -392,6 +407,7 @@ bool LinkDevice::buildSeen() {
   // Start where the last full report stopped, so a busy element early in the list cannot keep
   // the ones after it from ever being reported.
   uint16_t index = seenCursor_ < elementCount_ ? seenCursor_ : 0;
+  bool complete = true;
   for (uint16_t n = 0; n < elementCount_; n++, index = (uint16_t)(index + 1) == elementCount_ ? 0 : index + 1) {
     e.element = index;
     e.text = 0;
@@ -403,11 +419,14 @@ bool LinkDevice::buildSeen() {
     if (memo.tag != kForce && memo.tag == e.tag && memo.value == fingerprint) continue;
     if (!b.addSeen(e)) {
       seenCursor_ = index;
+      complete = false;
       break;
     }
     memo.tag = e.tag;
     memo.value = fingerprint;
   }
+  // Every element was just asked: a change scan now would find nothing this report missed.
+  if (complete) lastLookMs_ = config_.millis();
   txLength_ = b.seal();
   return txLength_ != 0;
 }
@@ -580,9 +599,16 @@ void LinkDevice::update() {
     PP_MARK(PP_MARK_SCAN);
     lastScanMs_ = now;
     if (inputCount_ && !queued(KindInputs) && anyInputChanged()) enqueue(KindInputs);
-    // A bus device reports changes in its answers; a direct one says so when they happen
-    // (a pointer still moving, a lamp flashing), at most once per scan.
-    if (!bus() && !queued(KindSeen) && anyElementChanged()) enqueue(KindSeen);
+    PP_MARK(PP_MARK_IDLE);
+  }
+  // A bus device reports changes in its answers; a direct one says so when they happen (a
+  // pointer still moving, a lamp flashing), at most once per scanMs. Elements are looked at
+  // scanMs after they were last looked at, by this scan or by a report: on a busy line the
+  // reports do the looking, and asking 40 elements again in between would find nothing new.
+  if (!bus() && (uint32_t)(now - lastLookMs_) >= config_.scanMs) {
+    PP_MARK(PP_MARK_SCAN);
+    lastLookMs_ = now;
+    if (!queued(KindSeen) && anyElementChanged()) enqueue(KindSeen);
     PP_MARK(PP_MARK_IDLE);
   }
   if (bus()) {

@@ -37,7 +37,9 @@ struct Channel {
   float asFloat() const;
 #endif
   // True for a true boolean or a non-zero number.
-  bool isOn() const { return known() && (tag == ValueFloat ? v.f != 0 : v.i != 0); }
+  // A float is non-zero unless all its bits but the sign are clear (+0 and -0): tested on the
+  // bits, so a lamp channel costs no float comparison.
+  bool isOn() const { return known() && (tag == ValueFloat ? ((uint32_t)v.i << 1) != 0 : v.i != 0); }
 };
 
 // Channel table entries: `pp::channel(pp::kAcceptBoolean)`, `pp::textChannel(buffer)`.
@@ -192,6 +194,9 @@ class LinkDevice {
   uint32_t answerAtUs_;
   uint32_t lastHeartbeatMs_;
   uint32_t lastScanMs_;
+  // When every element was last asked what it shows: by the change scan, or by a seen report
+  // that went through all of them (which makes the scan due again only scanMs after it).
+  uint32_t lastLookMs_;
   uint16_t seenCursor_;
 
   static void bump(uint16_t& counter) {

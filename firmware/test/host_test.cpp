@@ -592,6 +592,13 @@ int main(int argc, char** argv) {
     run("crc: CRC-16/MODBUS of " + (check.has("ascii") ? "\"" + check["ascii"].string + "\"" : "[" + check["hex"].string + "]") + " is " + check["crc"].string,
         [&] { EXPECT_EQ(pp::crc16Modbus(data.data(), data.size()), expected); });
   }
+  run("crc: the table step equals the bitwise step for every byte and a spread of registers", [&] {
+    for (unsigned crc = 0; crc <= 0xffff; crc += 0x0101) {
+      for (unsigned byte = 0; byte < 256; byte++) {
+        EXPECT_EQ(pp::crc16Update((uint16_t)crc, (uint8_t)byte), pp::crc16UpdateBitwise((uint16_t)crc, (uint8_t)byte));
+      }
+    }
+  });
   run("crc: the residue over a body and its own CRC is zero (catalogue residue 0x0000)", [&] {
     Bytes body = hex(vectors["frames"][0]["body"].string);
     EXPECT_EQ(pp::crc16Modbus(body.data(), body.size()), 0);
