@@ -7,8 +7,11 @@ import {
   copyPanelBody,
   createPanelBody,
   createTokenBody,
+  elementIdParam,
   expectedQuery,
   listPanelsQuery,
+  MOTION_MAX_STRETCHES,
+  motionQuery,
   markersBody,
   mirrorPanelBody,
   renamePanelBody,
@@ -16,10 +19,13 @@ import {
   type CreatedTokenView,
   type DeviceTokenView,
   type ExpectedView,
+  type MotionView,
   type PanelDetail,
   type PanelSummary,
 } from "../../shared/api/panels";
 import { entityId } from "../../shared/api/workshops";
+import { applyTransform } from "../../shared/elements/bindings";
+import { accelerationDegreesPerSecond2, maxDegreesPerSecond, motionDemand, type ValueSample } from "../../shared/elements/scale";
 import { expectTimelines, panelCoverage, type ExpectFrame } from "../../shared/expect";
 import { deviceHeader, exportPanelJson, mirrorPanel, panel as panelSchema, type Panel } from "../../shared/panel";
 import type { Database } from "../db/client";
@@ -37,6 +43,7 @@ import { findAirframe } from "./airframes";
 const workshopParams = z.object({ workshopId: entityId });
 const panelParams = workshopParams.extend({ panelId: entityId });
 const tokenParams = panelParams.extend({ tokenId: entityId });
+const elementParams = panelParams.extend({ elementId: elementIdParam });
 
 const summaryColumns = {
   id: panel.id,
@@ -412,15 +419,7 @@ export function panelsRouter(services: Services) {
     authorize(panelPolicy.read(await member(req, workshopId)), forbidden);
     const { recordingId } = parseQuery(req, expectedQuery);
     const row = await findPanel(workshopId, panelId);
-    const [rec] = await db
-      .select({ id: recording.id, name: recording.name, airframeId: recording.airframeId, durationMs: recording.durationMs, frameCount: recording.frameCount })
-      .from(recording)
-      .where(and(eq(recording.id, recordingId), eq(recording.workshopId, workshopId)));
-    if (!rec) throw notFound("No such recording in this workshop.");
-    if (rec.airframeId !== row.airframeId) {
-      const message = `this recording is of another airframe than the panel's (${row.airframeName})`;
-      throw new HttpError("validation_failed", `query.recordingId: ${message}`, [{ path: "query.recordingId", message }]);
-    }
+    const rec = await recordingForPanel(workshopId, recordingId, row);
     const frames: ExpectFrame[] = [];
     for await (const batch of framesOf(db, rec.id)) for (const f of batch) frames.push(f);
     const timelines = expectTimelines(row.definition, frames, { endMs: Math.max(rec.durationMs, frames.at(-1)?.t ?? 0) });
@@ -432,6 +431,70 @@ export function panelsRouter(services: Services) {
       frameCount: rec.frameCount,
       timelines,
       coverage: panelCoverage(row.definition, timelines),
+    };
+    res.json(view);
+  });
+
+  /** A recording of the workshop (else 404) and of the panel's airframe (else 422, `query.recordingId`). */
+  async function recordingForPanel(workshopId: string, recordingId: string, row: PanelRow) {
+    const [rec] = await db
+      .select({ id: recording.id, name: recording.name, airframeId: recording.airframeId, durationMs: recording.durationMs, frameCount: recording.frameCount })
+      .from(recording)
+      .where(and(eq(recording.id, recordingId), eq(recording.workshopId, workshopId)));
+    if (!rec) throw notFound("No such recording in this workshop.");
+    if (rec.airframeId !== row.airframeId) {
+      const message = `this recording is of another airframe than the panel's (${row.airframeName})`;
+      throw new HttpError("validation_failed", `query.recordingId: ${message}`, [{ path: "query.recordingId", message }]);
+    }
+    return rec;
+  }
+
+  /**
+   * Motion demand: the speed and acceleration a pointer's value asks of its saved motor over a
+   * recording, and where the motor falls behind by more than the pointer's tolerance
+   * (shared/elements/scale motionDemand). Only the pointer's own channel is read.
+   */
+  router.get("/:workshopId/panels/:panelId/elements/:elementId/motion", async (req, res) => {
+    const { workshopId, panelId, elementId } = parseParams(req, elementParams);
+    authorize(panelPolicy.read(await member(req, workshopId)), forbidden);
+    const { recordingId } = parseQuery(req, motionQuery);
+    const row = await findPanel(workshopId, panelId);
+    const el = row.definition.elements.find((e) => e.id === elementId);
+    if (!el) throw notFound("No element with that identifier on this panel.");
+    const refuse = (message: string) => new HttpError("validation_failed", `params.elementId: ${message}`, [{ path: "params.elementId", message }]);
+    if (el.kind !== "pointer") throw refuse(`"${el.id}" is a ${el.kind}; motion demand is for pointers`);
+    if (!el.motor) throw refuse(`pointer "${el.id}" has no motor profile: set one on its scale page first`);
+    const rec = await recordingForPanel(workshopId, recordingId, row);
+    const channel = el.value.channel;
+    const samples: ValueSample[] = [];
+    for await (const batch of framesOf(db, rec.id)) {
+      for (const f of batch) {
+        const v = f.v[channel];
+        if (typeof v === "number") samples.push({ time: f.t / 1000, value: applyTransform(el.value.transform, v) });
+      }
+    }
+    const demand = motionDemand(samples, el.scale, el.motor, { toleranceDegrees: el.tolerance.degrees });
+    const view: MotionView = {
+      panelId: row.id,
+      elementId: el.id,
+      recordingId: rec.id,
+      recordingName: rec.name,
+      channel,
+      sampleCount: samples.length,
+      toleranceDegrees: el.tolerance.degrees,
+      peakDegreesPerSecond: demand.peakDegreesPerSecond,
+      peakDegreesPerSecond2: demand.peakDegreesPerSecond2,
+      motorMaxDegreesPerSecond: maxDegreesPerSecond(el.motor),
+      motorAccelerationDegreesPerSecond2: accelerationDegreesPerSecond2(el.motor),
+      keepsUp: demand.keepsUp,
+      worstLagDegrees: demand.worstLagDegrees,
+      behindCount: demand.behind.length,
+      behind: demand.behind.slice(0, MOTION_MAX_STRETCHES).map((b) => ({
+        startMs: b.start * 1000,
+        endMs: b.end * 1000,
+        worstLagDegrees: b.worstLagDegrees,
+        worstAtMs: b.worstAt * 1000,
+      })),
     };
     res.json(view);
   });

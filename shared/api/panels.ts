@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { ELEMENT_KINDS } from "../elements/kinds";
+import { ELEMENT_KINDS, elementId } from "../elements/kinds";
 import { panel } from "../panel/schema";
 import { entityId } from "./workshops";
 import type { PanelCoverage } from "../expect/coverage";
@@ -103,3 +103,50 @@ export interface ExpectedView {
   coverage: PanelCoverage;
 }
 export type CreatedTokenView = z.infer<typeof createdTokenView>;
+
+// ---- motion demand (a pointer's motor against a recording) ------------------------------------
+
+/**
+ * GET /panels/:panelId/elements/:elementId/motion?recordingId= : whether the pointer's saved motor
+ * profile keeps up with its value over a recording of the panel's airframe (shared/elements/scale
+ * motionDemand). 404 for an unknown element; 422 `params.elementId` for an element that is not a
+ * pointer or has no motor profile; 422 `query.recordingId` for a recording of another airframe.
+ */
+export const motionQuery = z.object({ recordingId: entityId }).strict();
+/** Element identifiers as the panel schema writes them. */
+export const elementIdParam = elementId;
+
+/** The most stretches a motion answer lists; `behindCount` says how many there were. */
+export const MOTION_MAX_STRETCHES = 50;
+
+export const motionStretch = z.object({
+  /** Recording time, milliseconds. */
+  startMs: z.number(),
+  endMs: z.number(),
+  /** The largest lag in the stretch, dial degrees. */
+  worstLagDegrees: z.number(),
+  worstAtMs: z.number(),
+});
+
+export const motionView = z.object({
+  panelId: z.string(),
+  elementId: z.string(),
+  recordingId: z.string(),
+  recordingName: z.string(),
+  channel: z.string(),
+  /** Numeric samples of the channel the demand was computed from. */
+  sampleCount: z.number().int(),
+  /** The pointer's tolerance: lag up to this is not "behind". */
+  toleranceDegrees: z.number(),
+  peakDegreesPerSecond: z.number(),
+  peakDegreesPerSecond2: z.number(),
+  /** The motor's limits in dial degrees (its steps per second and per second squared, converted). */
+  motorMaxDegreesPerSecond: z.number(),
+  motorAccelerationDegreesPerSecond2: z.number(),
+  keepsUp: z.boolean(),
+  worstLagDegrees: z.number(),
+  behindCount: z.number().int(),
+  /** The first MOTION_MAX_STRETCHES stretches where the motor falls behind by more than the tolerance. */
+  behind: z.array(motionStretch),
+});
+export type MotionView = z.infer<typeof motionView>;

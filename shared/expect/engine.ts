@@ -1,5 +1,5 @@
-import { createActor, SimulatedClock, type Actor, type AnyActorLogic } from "xstate";
-import { applyTransform, conditionTest, formatReadout, positionResolver, UNKNOWN_POSITION, type BoundValue, type Condition } from "../elements/bindings";
+import { SimulatedClock, type AnyStateMachine } from "xstate";
+import { applyTransform, conditionTest, formatReadout, positionResolver, UNKNOWN_POSITION, type BoundValue, type Condition, type ReadoutFormat, type Transform } from "../elements/bindings";
 import {
   advanceClockTo,
   breakerMachine,
@@ -12,9 +12,12 @@ import {
   switchMachine,
 } from "../elements/behaviours";
 import type { Element, LampOutput, PointerElement, ReadoutElement } from "../elements/kinds";
-import { angleFunction, normalizeAngle, shortestArc } from "../elements/scale/scale";
+import { AngleComputer, normalizeAngle, shortestArc } from "../elements/scale/scale";
 import type { Panel } from "../panel/schema";
+import { runPointerSamples } from "./pointer-loop";
 import { SlewFollower } from "./slew";
+import { ChannelColumns, ElementFeed, type ChannelColumn, FRAMES_PER_CHUNK, type BulkListener, type Listener } from "./columns";
+import { actorCell, MemoTables, type CellEvent, type MachineCell } from "./cells";
 import { DiscreteTrackBuilder, LinearTrackBuilder } from "./tracks";
 import type { BreakerShows, ElementTimeline, ExpectedTimelines, ExpectFrame, LampShows } from "./types";
 
@@ -35,41 +38,123 @@ export interface ExpectOptions {
 
 export const EXPECT_DEFAULTS = { rampGapMs: 250, angleResolutionDeg: 0.05 } as const;
 
-type Listener = (value: BoundValue, t: number) => void;
-
 interface Runner {
   timeline: ElementTimeline;
   listeners: [string, Listener][];
+  /** The loop form of one listener (a pointer's, readout's or encoder's value), for the fast path. */
+  bulk?: { listener: Listener; run: BulkListener };
   /** Records the initial state at the recording's start. */
   start(t: number): void;
   /** Re-reads the machine after timers fired at `t` (only runners with timers). */
   afterTimers?(t: number): void;
+  /** The element's own clock (fast path, behaviours with delays only). */
+  clock?: SimulatedClock;
   finish(t: number): void;
   stop(): void;
 }
 
 interface Build {
+  /** The clock every actor runs on (stepwise: one for the panel; fast: one per timed element). */
   clock: SimulatedClock;
+  /** Learnt transition tables (fast path); null: every machine runs as an actor (stepwise). */
+  memo: MemoTables | null;
   options: Required<Omit<ExpectOptions, "endMs">>;
 }
 
-/**
- * Turns a recording (frames in time order) and a panel into every element's expected timeline.
- *
- * Pure and deterministic: the machines run on one SimulatedClock that follows the frames' own
- * instants, never wall time, and every element reads channels in the order the frames list them.
- * A machine gets an event only when one of its inputs changes (a condition flipping, a position
- * changing), never per sample; continuous motion is a plain loop (SlewFollower).
- */
-export function expectTimelines(panel: Pick<Panel, "id" | "elements">, frames: Iterable<ExpectFrame>, options: ExpectOptions = {}): ExpectedTimelines {
-  const clock = new SimulatedClock();
-  const build: Build = {
-    clock,
+function buildOf(options: ExpectOptions, memo: MemoTables | null): Build {
+  return {
+    clock: new SimulatedClock(),
+    memo,
     options: {
       rampGapMs: options.rampGapMs ?? EXPECT_DEFAULTS.rampGapMs,
       angleResolutionDeg: options.angleResolutionDeg ?? EXPECT_DEFAULTS.angleResolutionDeg,
     },
   };
+}
+
+/** A behaviour machine without delays: memoised on the fast path, an actor on the stepwise one. */
+function cellOf(build: Build, machine: AnyStateMachine, input?: unknown): MachineCell {
+  return build.memo ? build.memo.cell(machine, input) : actorCell(machine, build.clock, input);
+}
+
+/**
+ * Turns a recording (frames in time order) and a panel into every element's expected timeline.
+ *
+ * Pure and deterministic: machines run on the recording's own instants, never wall time, and every
+ * element reads its channels in the order the frames list them. The frames are read a chunk at a
+ * time into one column per bound channel (docs/behaviours.md, "How the engine runs"); then each
+ * element plays only the samples of the channels it binds, so an element whose inputs did not
+ * change costs nothing. A machine gets an event only when one of its inputs changes (a condition
+ * flipping, a position changing), never per sample, and machines without delays step through
+ * transition tables learnt from xstate (cells.ts); continuous motion is a plain loop (SlewFollower).
+ *
+ * Gives exactly what `expectTimelinesStepwise` gives (a property test compares the two).
+ */
+export function expectTimelines(panel: Pick<Panel, "id" | "elements">, frames: Iterable<ExpectFrame>, options: ExpectOptions = {}): ExpectedTimelines {
+  const build = buildOf(options, new MemoTables());
+  const runners = panel.elements.map((el) => {
+    if (el.kind !== "switch" || !el.springReturn) return compileElement(el, build);
+    // Only a spring-loaded switch has a delay: an actor on a clock of its own.
+    const clock = new SimulatedClock();
+    return { ...compileElement(el, { ...build, clock }), clock };
+  });
+  const columns = new ChannelColumns();
+  const feeds = runners.map((runner) => new ElementFeed(runner, columns));
+  const byChannel = columns.byChannel;
+
+  const startMs = 0;
+  for (const runner of runners) runner.start(startMs);
+  let last = startMs;
+  let seq = 0;
+  let framesInChunk = 0;
+  const flush = () => {
+    for (let i = 0; i < feeds.length; i++) feeds[i].play();
+    columns.clear();
+    framesInChunk = 0;
+  };
+  // Frames usually list the same channels in the same order: the column found for the k-th key
+  // of the last frame is kept, and a key that is the same string again skips the map lookup.
+  const keyAt: string[] = [];
+  const columnAt: (ChannelColumn | null)[] = [];
+  const read = (frame: ExpectFrame) => {
+    const t = frame.t;
+    const values = frame.v;
+    let k = 0;
+    for (const channel in values) {
+      let column: ChannelColumn | null;
+      if (keyAt[k] === channel) column = columnAt[k];
+      else {
+        column = byChannel.get(channel) ?? null;
+        keyAt[k] = channel;
+        columnAt[k] = column;
+      }
+      if (column !== null) column.add(t, values[channel], seq++);
+      k++;
+    }
+    last = t;
+    if (++framesInChunk === FRAMES_PER_CHUNK) flush();
+  };
+  // An index loop over an array: for-of would make an iterator result per frame.
+  if (Array.isArray(frames)) for (let i = 0; i < frames.length; i++) read(frames[i] as ExpectFrame);
+  else for (const frame of frames) read(frame);
+  flush();
+  const endMs = Math.max(options.endMs ?? last, last);
+  for (const runner of runners) {
+    if (runner.clock) advanceClockTo(runner.clock, endMs, runner.afterTimers);
+    runner.finish(endMs);
+    runner.stop();
+  }
+  return { panelId: panel.id, startMs, endMs, elements: runners.map((r) => r.timeline) };
+}
+
+/**
+ * The straightforward engine: every machine an xstate actor on one simulated clock for the panel,
+ * each frame dispatched to the listeners of the channels it lists. Slower, kept as the reference
+ * the fast path is checked against (tests/unit/expect/fast-path.test.ts).
+ */
+export function expectTimelinesStepwise(panel: Pick<Panel, "id" | "elements">, frames: Iterable<ExpectFrame>, options: ExpectOptions = {}): ExpectedTimelines {
+  const build = buildOf(options, null);
+  const clock = build.clock;
   const runners = panel.elements.map((el) => compileElement(el, build));
 
   const byChannel = new Map<string, Listener[]>();
@@ -162,15 +247,12 @@ function lampPart(out: LampOutput, power: Condition | undefined, build: Build, t
   const drive = out.drive;
 
   let read: () => { name: string; shows: LampShows };
-  let actor: Actor<AnyActorLogic>;
+  let cell: MachineCell;
   if (drive.mode === "condition") {
-    const a = createActor(lampMachine, {
-      clock: build.clock,
-      input: { alwaysPowered: power === undefined, flashes: out.flash !== undefined, alwaysFlashWhenLit: out.flash?.when === undefined },
-    });
-    actor = a as unknown as Actor<AnyActorLogic>;
+    const a = cellOf(build, lampMachine, { alwaysPowered: power === undefined, flashes: out.flash !== undefined, alwaysFlashWhenLit: out.flash?.when === undefined });
+    cell = a;
     read = () => {
-      const name = a.getSnapshot().value;
+      const name = a.snapshot.value as string;
       const shows: LampShows =
         name === "testing"
           ? { state: "on", level: 255 }
@@ -184,12 +266,13 @@ function lampPart(out: LampOutput, power: Condition | undefined, build: Build, t
     listeners.push(watch(drive.on, (on, t) => send({ type: "LIGHT", on }, t)));
     if (out.flash?.when) listeners.push(watch(out.flash.when, (on, t) => send({ type: "FLASH_WHEN", on }, t)));
   } else {
-    const a = createActor(latchMachine, { clock: build.clock, input: { cautionCount: drive.cautions.length, alwaysPowered: power === undefined } });
-    actor = a as unknown as Actor<AnyActorLogic>;
+    const a = cellOf(build, latchMachine, { cautionCount: drive.cautions.length, alwaysPowered: power === undefined });
+    cell = a;
     read = () => {
-      const snapshot = a.getSnapshot();
-      const supply = snapshot.value.supply;
-      const alerting = snapshot.value.alert === "alerting";
+      const snapshot = a.snapshot;
+      const value = snapshot.value as { supply: string; alert: string };
+      const supply = value.supply;
+      const alerting = value.alert === "alerting";
       const shows: LampShows =
         supply === "dark"
           ? OFF
@@ -225,12 +308,11 @@ function lampPart(out: LampOutput, power: Condition | undefined, build: Build, t
     lamp.set(t, shows, lampKey(shows));
     if (withMode) mode.set(t, name, name);
   }
-  function send(event: { type: string; [k: string]: unknown }, t: number) {
-    actor.send(event as never);
+  function send(event: CellEvent, t: number) {
+    cell.send(event);
     record(t);
   }
-  actor.start();
-  return { listeners, record, stop: () => actor.stop() };
+  return { listeners, record, stop: () => cell.stop() };
 }
 
 function compileElement(el: Element, build: Build): Runner {
@@ -248,9 +330,9 @@ function compileElement(el: Element, build: Build): Runner {
       const timeline = newTimeline(el);
       const track = new DiscreteTrackBuilder<BreakerShows>();
       timeline.tracks.breaker = track.changes;
-      const actor = createActor(breakerMachine, { clock: build.clock }).start();
+      const actor = cellOf(build, breakerMachine);
       const record = (t: number) => {
-        const shows = actor.getSnapshot().value;
+        const shows = actor.snapshot.value as BreakerShows;
         track.set(t, shows, shows);
       };
       const listeners: [string, Listener][] = [watch(el.trip, (on, t) => (actor.send({ type: "TRIP", on }), record(t)))];
@@ -267,20 +349,20 @@ function compileElement(el: Element, build: Build): Runner {
       const resolve = positionResolver(el.position, el.positions);
       let lastName: string = UNKNOWN_POSITION;
       const listeners: [string, Listener][] = [];
-      let actor: Actor<typeof switchMachine> | Actor<typeof leverMachine>;
+      let actor: MachineCell;
       if (el.kind === "switch") {
-        actor = createActor(switchMachine, {
-          clock: build.clock,
-          input: { initial: UNKNOWN_POSITION, springFrom: el.springReturn?.from, springTo: el.springReturn?.to, holdMs: el.springReturn?.holdMs },
-        }).start();
+        const input = { initial: UNKNOWN_POSITION, springFrom: el.springReturn?.from, springTo: el.springReturn?.to, holdMs: el.springReturn?.holdMs };
+        // A spring-loaded switch has a delay: an actor on the clock (its own one on the fast path).
+        actor = el.springReturn ? actorCell(switchMachine, build.clock, input) : cellOf(build, switchMachine, input);
       } else {
-        const lever = createActor(leverMachine, { clock: build.clock, input: { initial: UNKNOWN_POSITION } }).start();
+        const lever = cellOf(build, leverMachine, { initial: UNKNOWN_POSITION });
         actor = lever;
         if (el.lock) listeners.push(watch(el.lock, (on, t) => (lever.send({ type: "LOCK", on }), record(t))));
       }
       const record = (t: number) => {
-        const snapshot = actor.getSnapshot();
-        position.set(t, snapshot.context.position, snapshot.context.position);
+        const snapshot = actor.snapshot;
+        const at = (snapshot.context as { position: string }).position;
+        position.set(t, at, at);
         const name = stateName(snapshot.value);
         mode.set(t, name, name);
       };
@@ -290,7 +372,7 @@ function compileElement(el: Element, build: Build): Runner {
           const name = resolve(value);
           if (name === lastName) return;
           lastName = name;
-          (actor as Actor<typeof switchMachine>).send({ type: "POSITION", name });
+          actor.send({ type: "POSITION", name });
           record(t);
         },
       ]);
@@ -307,9 +389,9 @@ function compileElement(el: Element, build: Build): Runner {
       const timeline = newTimeline(el);
       const pressed = new DiscreteTrackBuilder<boolean>();
       timeline.tracks.pressed = pressed.changes;
-      const actor = createActor(buttonMachine, { clock: build.clock }).start();
+      const actor = cellOf(build, buttonMachine);
       const record = (t: number) => {
-        const down = actor.getSnapshot().value === "pressed";
+        const down = actor.snapshot.value === "pressed";
         pressed.set(t, down, down ? "1" : "0");
       };
       const listeners: [string, Listener][] = [watch(el.pressed, (on, t) => (actor.send({ type: "PRESS", on }), record(t)))];
@@ -362,10 +444,70 @@ function compileElement(el: Element, build: Build): Runner {
   }
 }
 
+/**
+ * A readout's per-sample state and work, in fields and methods (see PointerState for why). The text
+ * depends only on the rounded digits and the sign (without a `map`), so a change of value that
+ * keeps them is no change at all, and texts already made are kept in a small cache by those digits:
+ * a value wandering around a rounding boundary would otherwise format the same two texts forever.
+ */
 class ReadoutState {
   formatted = "";
   lastKey = 0;
   hasKey = false;
+  inT = 0;
+  inValue = 0;
+  private readonly cacheKeys = new Float64Array(64).fill(Number.NaN);
+  private readonly cacheTexts: string[] = new Array<string>(64).fill("");
+  private readonly factor: number;
+
+  constructor(
+    private readonly format: ReadoutFormat,
+    private readonly transform: Transform | undefined,
+    private readonly record: (t: number) => void,
+  ) {
+    this.factor = 10 ** format.decimals;
+  }
+
+  /** One numeric sample. */
+  numberIn(): void {
+    const value = applyTransform(this.transform, this.inValue);
+    if (this.format.map) {
+      this.formatted = formatReadout(this.format, value);
+    } else {
+      const key = (value < 0 ? -1 : 1) * Math.round(Math.abs(value) * this.factor);
+      if (key === this.lastKey && this.hasKey) return;
+      this.lastKey = key;
+      this.hasKey = true;
+      const slot = key & 63;
+      if (this.cacheKeys[slot] === key) this.formatted = this.cacheTexts[slot];
+      else {
+        this.formatted = formatReadout(this.format, value);
+        this.cacheKeys[slot] = key;
+        this.cacheTexts[slot] = this.formatted;
+      }
+    }
+    this.record(this.inT);
+  }
+
+  /** A text or boolean sample. */
+  other(v: BoundValue, t: number): void {
+    this.hasKey = false;
+    this.formatted = formatReadout(this.format, v);
+    this.record(t);
+  }
+
+  run(column: ChannelColumn, from: number, to: number): void {
+    const { times, numbers, others } = column;
+    for (let i = from; i < to; i++) {
+      const other = others[i];
+      if (other !== undefined) this.other(other, times[i]);
+      else {
+        this.inT = times[i];
+        this.inValue = numbers[i];
+        this.numberIn();
+      }
+    }
+  }
 }
 
 function readoutRunner(el: ReadoutElement, build: Build): Runner {
@@ -374,44 +516,34 @@ function readoutRunner(el: ReadoutElement, build: Build): Runner {
   const mode = new DiscreteTrackBuilder<string>();
   timeline.tracks.text = text.changes;
   timeline.tracks.mode = mode.changes;
-  const actor = createActor(readoutMachine, { clock: build.clock, input: { alwaysPowered: el.power === undefined } }).start();
+  const actor = cellOf(build, readoutMachine, { alwaysPowered: el.power === undefined });
   const allLit = "8".repeat(el.format.width ?? 0);
-  const state = new ReadoutState();
-  const format = el.format;
-  const factor = 10 ** format.decimals;
-  // The digits depend only on the rounded magnitude and the sign, unless a map renames values.
-  const digitsKey = format.map ? null : (v: number) => (v < 0 ? -1 : 1) * Math.round(Math.abs(v) * factor);
   const record = (t: number) => {
-    const name = actor.getSnapshot().value;
+    const name = actor.snapshot.value as string;
     const shows = name === "showing" ? state.formatted : name === "testing" ? allLit : "";
     text.set(t, shows, shows);
     mode.set(t, name, name);
   };
-  const listeners: [string, Listener][] = [
-    [
-      el.value.channel,
-      (v, t) => {
-        if (typeof v === "number") {
-          const value = applyTransform(el.value.transform, v);
-          if (digitsKey) {
-            const key = digitsKey(value);
-            if (key === state.lastKey && state.hasKey) return;
-            state.lastKey = key;
-            state.hasKey = true;
-          }
-          state.formatted = formatReadout(format, value);
-        } else {
-          state.hasKey = false;
-          state.formatted = formatReadout(format, v);
-        }
-        record(t);
-      },
-    ],
-  ];
+  const state = new ReadoutState(el.format, el.value.transform, record);
+  const onValue: Listener = (v, t) => {
+    if (typeof v === "number") {
+      state.inT = t;
+      state.inValue = v;
+      state.numberIn();
+    } else state.other(v, t);
+  };
+  const listeners: [string, Listener][] = [[el.value.channel, onValue]];
   if (el.power) listeners.push(watch(el.power, (on, t) => (actor.send({ type: "POWER", on }), record(t))));
   if (el.blankWhen) listeners.push(watch(el.blankWhen, (on, t) => (actor.send({ type: "BLANK", on }), record(t))));
   if (el.test) listeners.push(watch(el.test, (on, t) => (actor.send({ type: "TEST", on }), record(t))));
-  return { timeline, listeners, start: record, finish: () => {}, stop: () => actor.stop() };
+  return {
+    timeline,
+    listeners,
+    bulk: { listener: onValue, run: (column, from, to) => state.run(column, from, to) },
+    start: record,
+    finish: () => {},
+    stop: () => actor.stop(),
+  };
 }
 
 /** The dial angle a pointer rests at when unpowered. */
@@ -443,6 +575,44 @@ class PointerState {
   target = 0;
   /** Whole turns added to a full-circle target after power returns. */
   turnOffset = 0;
+  /** Input of sampleIn(): one sample of the value channel, in fields (see SlewFollower). */
+  inT = 0;
+  inValue = 0;
+
+  constructor(
+    readonly follower: SlewFollower,
+    readonly angles: AngleComputer,
+    readonly transform: Transform | undefined,
+    readonly rampGap: number,
+  ) {}
+
+  /** One numeric sample of the value channel. */
+  sampleIn(): void {
+    const t = this.inT;
+    const angles = this.angles;
+    angles.value = this.transform ? applyTransform(this.transform, this.inValue) : this.inValue;
+    angles.compute();
+    const angle = angles.angle;
+    const ramp = this.following && this.hasTarget && t - this.lastSampleT <= this.rampGap;
+    this.target = angle;
+    this.hasTarget = true;
+    this.lastSampleT = t;
+    if (this.following) {
+      const follower = this.follower;
+      follower.inT = t;
+      follower.inAngle = angle + this.turnOffset;
+      follower.inRamp = ramp;
+      follower.feedIn();
+    }
+  }
+
+  /**
+   * sampleIn() over a run of samples (values that are not numbers skipped, as one by one), fused
+   * into one loop with its state in local variables: pointer-loop.ts.
+   */
+  run(column: ChannelColumn, from: number, to: number): void {
+    runPointerSamples(this, column, from, to);
+  }
 }
 
 function pointerRunner(el: PointerElement, build: Build): Runner {
@@ -453,16 +623,13 @@ function pointerRunner(el: PointerElement, build: Build): Runner {
   timeline.tracks.mode = mode.changes;
   const wrap = el.scale.kind === "full-circle";
   const line = new LinearTrackBuilder(build.options.angleResolutionDeg);
-  timeline.angle = { t: line.t, angle: line.angle, wrap };
+  // Filled in by finish (the track's arrays are made there); set now to keep the key order.
+  const angleTrack = (timeline.angle = { t: line.t, angle: line.angle, wrap });
   const follower = new SlewFollower(line, el.maxSlewDegPerSec);
-  const actor = createActor(pointerMachine, { clock: build.clock, input: { alwaysPowered: el.power === undefined } }).start();
-  const scale = el.scale;
-  // Full-circle pointers travel in unwrapped degrees so motion through 360 stays a straight line.
-  const toAngle = wrap ? travelAngleFunction(scale as Extract<PointerElement["scale"], { kind: "full-circle" }>) : angleFunction(scale);
+  const actor = cellOf(build, pointerMachine, { alwaysPowered: el.power === undefined });
   const park = parkAngleOf(el);
-  const transform = el.value.transform;
-  const rampGap = build.options.rampGapMs;
-  const state = new PointerState();
+  // Full-circle pointers travel in unwrapped degrees so motion through 360 stays a straight line.
+  const state = new PointerState(follower, new AngleComputer(el.scale), el.value.transform, build.options.rampGapMs);
 
   const parkTarget = (): number => {
     if (!wrap) return park;
@@ -470,31 +637,24 @@ function pointerRunner(el: PointerElement, build: Build): Runner {
     return p + shortestArc(normalizeAngle(p), park);
   };
   const record = (t: number) => {
-    const name = actor.getSnapshot().value;
+    const name = actor.snapshot.value as string;
     mode.set(t, name, name);
     const showsFlag = name === "parked" && el.offFlag;
     flag.set(t, showsFlag, showsFlag ? "1" : "0");
   };
 
-  const listeners: [string, Listener][] = [
-    [
-      el.value.channel,
-      (value, t) => {
-        if (typeof value !== "number") return;
-        const angle = toAngle(transform ? applyTransform(transform, value) : value);
-        const ramp = state.following && state.hasTarget && t - state.lastSampleT <= rampGap;
-        state.target = angle;
-        state.hasTarget = true;
-        state.lastSampleT = t;
-        if (state.following) follower.feed(t, angle + state.turnOffset, ramp);
-      },
-    ],
-  ];
+  const onValue: Listener = (value, t) => {
+    if (typeof value !== "number") return;
+    state.inT = t;
+    state.inValue = value;
+    state.sampleIn();
+  };
+  const listeners: [string, Listener][] = [[el.value.channel, onValue]];
   if (el.power) {
     listeners.push(
       watch(el.power, (on, t) => {
         actor.send({ type: "POWER", on });
-        state.following = actor.getSnapshot().value === "following";
+        state.following = actor.snapshot.value === "following";
         if (state.following) {
           if (state.hasTarget) {
             if (wrap) state.turnOffset = Math.round((follower.at.position - state.target) / 360) * 360;
@@ -510,12 +670,17 @@ function pointerRunner(el: PointerElement, build: Build): Runner {
   return {
     timeline,
     listeners,
+    bulk: { listener: onValue, run: (column, from, to) => state.run(column, from, to) },
     start: (t) => {
-      state.following = actor.getSnapshot().value === "following";
+      state.following = actor.snapshot.value === "following";
       follower.start(t, park);
       record(t);
     },
-    finish: (t) => follower.finish(t),
+    finish: (t) => {
+      follower.finish(t);
+      angleTrack.t = line.t;
+      angleTrack.angle = line.angle;
+    },
     stop: () => actor.stop(),
   };
 }

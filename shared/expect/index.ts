@@ -5,3 +5,4 @@ export * from "./lookup";
 export * from "./coverage";
 export * from "./tracks";
 export * from "./slew";
+export { FRAMES_PER_CHUNK } from "./columns";

@@ -31,44 +31,73 @@ export class DiscreteTrackBuilder<V> {
  * before it on that line). Both the raw and the kept curves are linear between points, so the
  * kept curve stays within `epsilon` of the raw one at every instant, not only at the samples.
  * With epsilon 0 only exactly collinear points are dropped.
+ *
+ * Points go in through fields (`inT`, `inA`, then `pushIn()`) on the engine's per-sample path, so
+ * no double is boxed on the way (see SlewFollower). Kept points wait in typed arrays, which grow
+ * outside the collected heap, and are copied once into the track's arrays of exactly their size
+ * by finish(): growing plain arrays by push allocated about three times the final size.
  */
 export class LinearTrackBuilder {
-  /** Filled by finish(); until then points live in typed arrays, which grow off the JS heap. */
-  readonly t: number[] = [];
-  readonly angle: number[] = [];
+  /** The kept points, made by finish(). */
+  t: number[] = [];
+  angle: number[] = [];
   private times = new Float64Array(1024);
   private angles = new Float64Array(1024);
   private count = 0;
-  private anchorT = 0;
-  private anchorA = 0;
-  private hasAnchor = false;
-  private pendingT = 0;
-  private pendingA = 0;
-  private hasPending = false;
-  private slopeMin = -Infinity;
-  private slopeMax = Infinity;
+  /** Inputs of pushIn(). */
+  inT = 0;
+  inA = 0;
+  // The swinging door's state, read and written back by the engine's fused pointer loop
+  // (pointer-loop.ts) too.
+  anchorT = 0;
+  anchorA = 0;
+  hasAnchor = false;
+  pendingT = 0;
+  pendingA = 0;
+  hasPending = false;
+  slopeMin = -Infinity;
+  slopeMax = Infinity;
 
-  constructor(private readonly epsilon: number) {}
+  constructor(readonly epsilon: number) {}
+
+  /** Stores a kept point (the fused loop keeps its door state itself). */
+  append(t: number, a: number): void {
+    if (this.count === this.times.length) this.grow();
+    this.times[this.count] = t;
+    this.angles[this.count] = a;
+    this.count++;
+  }
 
   push(t: number, a: number): void {
+    this.inT = t;
+    this.inA = a;
+    this.pushIn();
+  }
+
+  /** push() with its arguments in inT and inA. */
+  pushIn(): void {
+    const t = this.inT;
+    const a = this.inA;
     if (!this.hasAnchor) {
-      this.emit(t, a);
+      this.keep(t, a);
       return;
     }
     if (!this.hasPending) {
       if (t === this.anchorT) {
         // A jump at the anchor's instant: keep both ends.
-        if (a !== this.anchorA) this.emit(t, a);
+        if (a !== this.anchorA) this.keep(t, a);
         return;
       }
-      this.setPending(t, a);
+      this.pendingT = t;
+      this.pendingA = a;
+      this.hasPending = true;
       return;
     }
     if (t === this.pendingT) {
       if (a === this.pendingA) return;
       // A jump: the pending point is a corner that must stay, then the jump's far end.
-      this.emit(this.pendingT, this.pendingA);
-      this.emit(t, a);
+      this.keep(this.pendingT, this.pendingA);
+      this.keep(t, a);
       return;
     }
     // The pending point becomes an intermediate one: the line from the anchor must pass within
@@ -86,42 +115,43 @@ export class LinearTrackBuilder {
       this.pendingA = a;
       return;
     }
-    this.emit(this.pendingT, this.pendingA);
-    this.setPending(t, a);
-  }
-
-  finish(): void {
-    if (this.hasPending) this.emit(this.pendingT, this.pendingA);
-    for (let i = 0; i < this.count; i++) {
-      this.t.push(this.times[i]);
-      this.angle.push(this.angles[i]);
-    }
-    this.count = 0;
-  }
-
-  private setPending(t: number, a: number) {
+    this.keep(this.pendingT, this.pendingA);
     this.pendingT = t;
     this.pendingA = a;
     this.hasPending = true;
   }
 
-  private emit(t: number, a: number) {
-    if (this.count === this.times.length) {
-      const times = new Float64Array(this.count * 2);
-      times.set(this.times);
-      this.times = times;
-      const angles = new Float64Array(this.count * 2);
-      angles.set(this.angles);
-      this.angles = angles;
+  finish(): void {
+    if (this.hasPending) this.keep(this.pendingT, this.pendingA);
+    const n = this.count;
+    // Sized once, then filled in order (about three times faster than growing by push).
+    const t = new Array<number>(n);
+    const angle = new Array<number>(n);
+    for (let i = 0; i < n; i++) {
+      t[i] = this.times[i];
+      angle[i] = this.angles[i];
     }
-    this.times[this.count] = t;
-    this.angles[this.count] = a;
-    this.count++;
+    this.t = t;
+    this.angle = angle;
+  }
+
+  /** Small enough to be inlined into pushIn, so its doubles stay unboxed. */
+  private keep(t: number, a: number) {
+    this.append(t, a);
     this.anchorT = t;
     this.anchorA = a;
     this.hasAnchor = true;
     this.hasPending = false;
     this.slopeMin = -Infinity;
     this.slopeMax = Infinity;
+  }
+
+  private grow(): void {
+    const times = new Float64Array(this.count * 2);
+    times.set(this.times);
+    this.times = times;
+    const angles = new Float64Array(this.count * 2);
+    angles.set(this.angles);
+    this.angles = angles;
   }
 }

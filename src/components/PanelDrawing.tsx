@@ -1,3 +1,4 @@
+import { useRef, useState, type PointerEvent as ReactPointerEvent } from "react";
 import type { Element, PointerElement } from "../../shared/elements/kinds";
 import { valueToAngle } from "../../shared/elements/scale/scale";
 import type { ExpectedState } from "../../shared/expect/types";
@@ -485,15 +486,89 @@ export interface PanelDrawingProps {
   onSelect?: (elementId: string) => void;
   title?: string;
   className?: string;
+  /**
+   * When given, elements can be dragged to a new place (a builder's layout); called on drop with
+   * the item's elements (every pointer of a shared dial) and where it was dropped, in the layout's
+   * units. A press without movement still selects. Absent: nothing moves (viewers, previews, runs).
+   */
+  onPlace?: (elementIds: string[], at: { x: number; y: number }) => void;
 }
 
-export function PanelDrawing({ panel, states, selected, onSelect, title = "Virtual panel", className = "" }: PanelDrawingProps) {
+/** Client pixels a press must travel before it counts as a drag rather than a click. */
+const DRAG_THRESHOLD_PX = 4;
+
+interface Drag {
+  ids: string[];
+  pointerId: number;
+  clientX: number;
+  clientY: number;
+  /** The item's position minus the pointer's, in drawing units, so the item does not jump. */
+  offsetX: number;
+  offsetY: number;
+  x: number;
+  y: number;
+  moved: boolean;
+}
+
+export function PanelDrawing({ panel, states, selected, onSelect, title = "Virtual panel", className = "", onPlace }: PanelDrawingProps) {
+  const svgRef = useRef<SVGSVGElement>(null);
+  const [drag, setDrag] = useState<Drag | null>(null);
   const a = arrange(panel);
   if (panel.elements.length === 0 && !panel.layout) Object.assign(a, { width: 240, height: 50, cell: 44 });
   const pad = a.cell * 0.7;
   const vb = `${-pad} ${-pad} ${a.width + pad * 2} ${a.height + pad * 2}`;
+
+  /** Client pixels to drawing units, through the SVG's own transform (viewBox and scaling). */
+  const toDrawing = (clientX: number, clientY: number) => {
+    const svg = svgRef.current;
+    const matrix = svg?.getScreenCTM();
+    if (!svg || !matrix) return { x: 0, y: 0 };
+    const point = new DOMPoint(clientX, clientY).matrixTransform(matrix.inverse());
+    return { x: point.x, y: point.y };
+  };
+  const startDrag = (item: DrawnItem) => (e: ReactPointerEvent<SVGGElement>) => {
+    if (!onPlace || e.button !== 0) return;
+    e.preventDefault();
+    svgRef.current?.setPointerCapture(e.pointerId);
+    const at = toDrawing(e.clientX, e.clientY);
+    setDrag({
+      ids: item.elements.map((el) => el.id),
+      pointerId: e.pointerId,
+      clientX: e.clientX,
+      clientY: e.clientY,
+      offsetX: item.x - at.x,
+      offsetY: item.y - at.y,
+      x: item.x,
+      y: item.y,
+      moved: false,
+    });
+  };
+  const moveDrag = (e: ReactPointerEvent<SVGSVGElement>) => {
+    if (!drag || e.pointerId !== drag.pointerId) return;
+    const at = toDrawing(e.clientX, e.clientY);
+    const moved = drag.moved || Math.hypot(e.clientX - drag.clientX, e.clientY - drag.clientY) >= DRAG_THRESHOLD_PX;
+    setDrag({ ...drag, x: at.x + drag.offsetX, y: at.y + drag.offsetY, moved });
+  };
+  const endDrag = (e: ReactPointerEvent<SVGSVGElement>) => {
+    if (!drag || e.pointerId !== drag.pointerId) return;
+    setDrag(null);
+    if (drag.moved) onPlace?.(drag.ids, { x: drag.x, y: drag.y });
+    else onSelect?.(drag.ids[0]);
+  };
+
   return (
-    <svg viewBox={vb} role="img" aria-label={title} className={`w-full rounded-lg ${className}`} style={{ background: C.face, maxHeight: "30rem" }} data-testid="panel-drawing">
+    <svg
+      ref={svgRef}
+      viewBox={vb}
+      role="img"
+      aria-label={title}
+      className={`w-full rounded-lg ${className}`}
+      style={{ background: C.face, maxHeight: "30rem", touchAction: onPlace ? "none" : undefined }}
+      data-testid="panel-drawing"
+      onPointerMove={onPlace ? moveDrag : undefined}
+      onPointerUp={onPlace ? endDrag : undefined}
+      onPointerCancel={onPlace ? () => setDrag(null) : undefined}
+    >
       <title>{title}</title>
       {panel.layout && <rect x={0} y={0} width={panel.layout.width} height={panel.layout.height} fill="none" stroke={C.faceSoft} strokeWidth={a.cell * 0.02} rx={a.cell * 0.1} />}
       {panel.elements.length === 0 && (
@@ -504,13 +579,21 @@ export function PanelDrawing({ panel, states, selected, onSelect, title = "Virtu
       {a.items.map((item) => {
         const ids = item.elements.map((e) => e.id);
         const isSelected = selected ? ids.includes(selected) : false;
+        const dragged = drag && drag.ids[0] === ids[0] ? drag : null;
+        const x = dragged ? dragged.x : item.x;
+        const y = dragged ? dragged.y : item.y;
         return (
           <g
             key={ids[0]}
-            transform={`translate(${item.x} ${item.y}) rotate(${item.rotation})`}
-            onClick={onSelect ? () => onSelect(ids[0]) : undefined}
-            style={onSelect ? { cursor: "pointer" } : undefined}
+            transform={`translate(${x} ${y}) rotate(${item.rotation})`}
+            // With onPlace, a press without movement selects (the captured pointer's click lands on the svg).
+            onClick={onSelect && !onPlace ? () => onSelect(ids[0]) : undefined}
+            onPointerDown={onPlace ? startDrag(item) : undefined}
+            style={onPlace ? { cursor: dragged?.moved ? "grabbing" : "grab" } : onSelect ? { cursor: "pointer" } : undefined}
+            opacity={dragged?.moved ? 0.8 : undefined}
             data-element={ids.join(" ")}
+            data-x={x.toFixed(1)}
+            data-y={y.toFixed(1)}
           >
             {isSelected && (
               <rect

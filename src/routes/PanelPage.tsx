@@ -10,6 +10,7 @@ import { PhotoTab } from "../features/panels/PhotoTab";
 import { PreviewTab } from "../features/panels/PreviewTab";
 import { panelFileUrls, useDeletePanel, usePanel, useRenamePanel } from "../features/panels/queries";
 import { TokensTab } from "../features/panels/TokensTab";
+import { PanelRunHistory } from "../features/runs/PanelRunHistory";
 import { kindSummary } from "../features/panels/words";
 import { useAirframe } from "../features/recordings/queries";
 
@@ -18,6 +19,7 @@ const TABS = [
   ["photo", "Photo and markers"],
   ["preview", "Preview"],
   ["tokens", "Device tokens"],
+  ["runs", "Runs"],
 ] as const;
 type Tab = (typeof TABS)[number][0];
 
@@ -128,6 +130,7 @@ export function PanelPage() {
       {tab === "photo" && <PhotoTab workshopId={w.id} panel={p} canWrite={canWrite} />}
       {tab === "preview" && <PreviewTab workshopId={w.id} panel={p} />}
       {tab === "tokens" && <TokensTab workshopId={w.id} panelId={p.id} canWrite={canWrite} />}
+      {tab === "runs" && <PanelRunHistory workshopId={w.id} panelId={p.id} />}
     </div>
   );
 }

@@ -6,6 +6,7 @@ import { angleToSteps, degreesPerStep, MICROSTEPPING_CHOICES, motorProfile, samp
 import type { GaugeScale, MotorProfile } from "../../shared/elements/scale";
 import { Button, Card, DoneNote, ErrorNote, Loading } from "../components/ui";
 import { ProblemList } from "../features/panels/components";
+import { MotionCard } from "../features/panels/MotionCard";
 import { usePanel, useReplacePanel } from "../features/panels/queries";
 
 /**
@@ -20,7 +21,18 @@ export function PanelScale() {
   if (panel.error) return <ErrorNote error={panel.error} />;
   const el = panel.data.definition.elements.find((e) => e.id === elementId);
   if (!el || el.kind !== "pointer") return <ErrorNote error={new Error("This panel has no pointer with that identifier.")} />;
-  return <ScaleEditor key={el.id} workshop={w} panelId={panelId} panelName={panel.data.name} pointer={el} definition={panel.data.definition} />;
+  return (
+    <ScaleEditor
+      key={el.id}
+      workshop={w}
+      panelId={panelId}
+      panelName={panel.data.name}
+      airframeId={panel.data.airframeId}
+      updatedAt={panel.data.updatedAt}
+      pointer={el}
+      definition={panel.data.definition}
+    />
+  );
 }
 
 type Row = { value: string; angle: string };
@@ -39,12 +51,16 @@ function ScaleEditor({
   workshop,
   panelId,
   panelName,
+  airframeId,
+  updatedAt,
   pointer,
   definition,
 }: {
   workshop: WorkshopDetail;
   panelId: string;
   panelName: string;
+  airframeId: string;
+  updatedAt: string;
   pointer: PointerElement;
   definition: Parameters<ReturnType<typeof useReplacePanel>["mutate"]>[0];
 }) {
@@ -333,7 +349,22 @@ function ScaleEditor({
           <ProblemList error={replace.error} title="Not saved" />
         </div>
       )}
+      <MotionCard
+        workshopId={workshop.id}
+        panelId={panelId}
+        airframeId={airframeId}
+        updatedAt={updatedAt}
+        pointer={pointer}
+        unsavedMotor={sortedJson(motorOn && motorParsed.success ? motorParsed.data : null) !== sortedJson(pointer.motor ?? null)}
+      />
     </div>
+  );
+}
+
+/** JSON with keys sorted at every level: the stored definition comes back in jsonb's key order. */
+function sortedJson(value: unknown): string {
+  return JSON.stringify(value, (_key, v: unknown) =>
+    v && typeof v === "object" && !Array.isArray(v) ? Object.fromEntries(Object.entries(v).sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0))) : v,
   );
 }
 

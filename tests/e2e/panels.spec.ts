@@ -8,7 +8,9 @@ import { demoChannels } from "../../shared/panel/demo";
  * Panels in the browser (issue 4): a builder describes a panel element by element (with inline
  * validation), uploads a photo of the real panel and drags a marker onto every element, previews
  * the panel against an uploaded recording at a chosen instant with what the recording never
- * reaches, and exports the device header; a viewer then sees it all read-only. The test database
+ * reaches, and exports the device header; on the way it checks the pointer's motor against the
+ * recording (motion demand) and drags an element to its place on the virtual layout; a viewer
+ * then sees it all read-only and cannot move anything. The test database
  * has no demo seed: people, workshop, airframe and recording are made here.
  *
  * Set SHOTS=/some/folder to keep a screenshot of each screen on the way.
@@ -126,7 +128,48 @@ test("a builder describes a panel, marks its photo, previews it against a record
   await shot(page, "scale");
   await page.getByRole("button", { name: "Save scale and motor" }).click();
   await expect(page.getByText("Saved into the panel definition.")).toBeVisible();
+
+  // Motion demand over the flight. The form's default motor: 1,080 full steps a turn at 1/4 is
+  // 1/12 degree a step, so 2,400 steps/s is 200 deg/s and 12,000 steps/s^2 is 1,000 deg/s^2. The
+  // flight's airspeed asks at most 15 deg/s (10 kt/s at 1.5 degrees a knot): it keeps up.
+  const verdict = page.getByTestId("motion-verdict");
+  await expect(page.getByTestId("motion-recording")).toContainText("Pattern flight");
+  await expect(verdict).toContainText("Keeps up.");
+  await expect(verdict).toContainText("15.0 °/s");
+  await expect(verdict).toContainText("200.0 °/s");
+  await expect(verdict).toContainText("1000.0 °/s²");
+  // A motor of 5 steps/s (about 0.4 deg/s) cannot: it falls behind from the take-off roll until
+  // long after, by 134 degrees at worst (shared/elements/scale motionDemand on the same flight).
+  await page.getByLabel("Fastest steps per second").fill("5");
+  await expect(page.getByText("These figures are for the saved motor profile")).toBeVisible();
+  await page.getByRole("button", { name: "Save scale and motor" }).click();
+  await expect(verdict).toContainText("Falls behind.");
+  await expect(verdict.getByRole("list", { name: "Where the motor falls behind" })).toContainText("This motor falls behind by 134.0° during 00:06.0 to 01:30.0.");
+  await expect(verdict).toContainText("0.4 °/s");
+  await expect(verdict).toContainText("▲ over");
+  await shot(page, "motion-demand");
   await page.getByRole("link", { name: "← Overhead test strip" }).click();
+
+  // Drag the FIRE lamp to its place on the virtual layout: saved at once into the layout.
+  const drawing = page.getByTestId("panel-drawing");
+  const fireItem = drawing.locator('[data-element="fire"]');
+  const before = { x: Number(await fireItem.getAttribute("data-x")), y: Number(await fireItem.getAttribute("data-y")) };
+  const fireBox = (await fireItem.boundingBox())!;
+  await page.mouse.move(fireBox.x + fireBox.width / 2, fireBox.y + fireBox.height / 2);
+  await page.mouse.down();
+  await page.mouse.move(fireBox.x + fireBox.width / 2 + 90, fireBox.y + fireBox.height / 2 + 40, { steps: 8 });
+  await page.mouse.up();
+  const placedPanelId = ((await (await page.request.get(`${api}/panels`)).json())[0].id) as string;
+  await expect
+    .poll(async () => (await (await page.request.get(`${api}/panels/${placedPanelId}`)).json()).definition.layout?.positions?.fire, { timeout: 15_000 })
+    .toBeTruthy();
+  const placedAt = (await (await page.request.get(`${api}/panels/${placedPanelId}`)).json()).definition.layout.positions.fire;
+  expect(placedAt.x).toBeGreaterThan(before.x);
+  expect(placedAt.y).toBeGreaterThan(before.y);
+  // The drawing shows it where it was saved.
+  await expect(fireItem).toHaveAttribute("data-x", placedAt.x.toFixed(1));
+  await expect(fireItem).toHaveAttribute("data-y", placedAt.y.toFixed(1));
+  await shot(page, "layout-placed");
 
   // The photo, then a marker dragged onto every element.
   await page.getByRole("button", { name: "Photo and markers" }).click();
@@ -204,6 +247,17 @@ test("a builder describes a panel, marks its photo, previews it against a record
   await expect(viewer.getByRole("button", { name: "Add an element" })).toHaveCount(0);
   await expect(viewer.getByRole("button", { name: "Mirror" })).toHaveCount(0);
   await expect(viewer.getByRole("button", { name: "Delete" })).toHaveCount(0);
+  // Dragging on the virtual layout moves nothing for a viewer.
+  const viewerFire = viewer.getByTestId("panel-drawing").locator('[data-element="fire"]');
+  const viewerBefore = await viewerFire.getAttribute("data-x");
+  const viewerBox = (await viewerFire.boundingBox())!;
+  await viewer.mouse.move(viewerBox.x + viewerBox.width / 2, viewerBox.y + viewerBox.height / 2);
+  await viewer.mouse.down();
+  await viewer.mouse.move(viewerBox.x + viewerBox.width / 2 + 80, viewerBox.y + viewerBox.height / 2 + 30, { steps: 6 });
+  await viewer.mouse.up();
+  await expect(viewerFire).toHaveAttribute("data-x", viewerBefore!);
+  const unchanged = (await (await viewer.request.get(`${api}/panels/${placedPanelId}`)).json()).definition.layout.positions.fire;
+  expect(unchanged).toEqual(placedAt);
   await viewer.getByRole("button", { name: "View GEAR" }).click();
   await expect(viewer.getByRole("button", { name: "Add to the panel" })).toHaveCount(0);
   await expect(viewer.getByRole("button", { name: "Save the element" })).toHaveCount(0);

@@ -18,6 +18,8 @@ let airframeId: string;
 let panelId: string;
 let recordingId: string;
 let tokenId: string;
+/** A panel whose airspeed pointer has a motor, for the motion route (the PUT case rewrites panelId). */
+let motorPanelId: string;
 let photo: Buffer;
 let counter = 0;
 
@@ -31,6 +33,12 @@ beforeAll(async () => {
   expect((await putBytes(owner, `${base}/panels/${panelId}/photo`, photo, "image/jpeg")).status).toBe(200);
   recordingId = await uploadRecording(bench, airframeId);
   tokenId = (await owner.post(`${base}/panels/${panelId}/tokens`, { label: "matrix board" })).body.id;
+  const withMotor = testDefinition("matrix-motor");
+  withMotor.elements = withMotor.elements.map((e) =>
+    e.id === "airspeed" ? { ...e, motor: { degreesPerFullStep: 1, microstepping: 1, sweep: { kind: "limited", minDegrees: 0, maxDegrees: 315 }, maxStepsPerSecond: 500, accelerationStepsPerSecond2: 5000 } } : e,
+  ) as typeof withMotor.elements;
+  motorPanelId = (await owner.post(`${base}/panels`, { airframeId, definition: withMotor })).body.id;
+  expect(motorPanelId).toBeTruthy();
 });
 afterAll(async () => {
   await bench?.close();
@@ -66,6 +74,7 @@ const CASES: RouteCase[] = [
   { name: "DELETE photo", call: async (v) => v.delete(`${base}/panels/${await freshPanel()}/photo`), expect: WRITE(200) },
   { name: "PUT markers", call: (v) => v.request("PUT", `${base}/panels/${panelId}/markers`, { markers: { fire: { x: 0.5, y: 0.5 } } }), expect: WRITE(200) },
   { name: "GET expected", call: (v) => v.get(`${base}/panels/${panelId}/expected?recordingId=${recordingId}`), expect: READ },
+  { name: "GET element motion", call: (v) => v.get(`${base}/panels/${motorPanelId}/elements/airspeed/motion?recordingId=${recordingId}`), expect: READ },
   { name: "GET tokens", call: (v) => v.get(`${base}/panels/${panelId}/tokens`), expect: READ },
   { name: "POST token", call: (v) => v.post(`${base}/panels/${panelId}/tokens`, { label: "board" }), expect: WRITE(201) },
   { name: "POST token revoke", call: async (v) => v.post(`${base}/panels/${panelId}/tokens/${await freshToken()}/revoke`), expect: WRITE(200) },
@@ -95,6 +104,7 @@ describe("panels role matrix", () => {
       `${theirs}/panels/${panelId}/photo`,
       `${theirs}/panels/${panelId}/tokens`,
       `${theirs}/panels/${panelId}/expected?recordingId=${recordingId}`,
+      `${theirs}/panels/${motorPanelId}/elements/airspeed/motion?recordingId=${recordingId}`,
     ];
     for (const p of paths) expect((await getText(other, p)).status, p).toBe(404);
     expect((await other.request("PUT", `${theirs}/panels/${panelId}`, { definition: testDefinition("matrix-panel") })).status).toBe(404);

@@ -323,6 +323,83 @@ describe("expected timelines for a preview", () => {
   });
 });
 
+describe("motion demand of a pointer's motor over a recording", () => {
+  let recordingId: string;
+  let motionPanel: string;
+  /** 1 degree per step, no microstepping: steps and degrees are the same numbers. */
+  const motor = (maxStepsPerSecond: number, accelerationStepsPerSecond2: number) => ({
+    degreesPerFullStep: 1,
+    microstepping: 1,
+    sweep: { kind: "limited", minDegrees: 0, maxDegrees: 315 },
+    maxStepsPerSecond,
+    accelerationStepsPerSecond2,
+  });
+  const withMotor = (m: ReturnType<typeof motor> | undefined) => {
+    const d = testDefinition("motion-panel", "Motion panel");
+    d.elements = d.elements.map((e) => (e.id === "airspeed" ? { ...e, motor: m } : e)) as typeof d.elements;
+    return d;
+  };
+  beforeAll(async () => {
+    recordingId = await uploadRecording(bench, airframeId, undefined, "Motion flight");
+    const made = await owner().post(`${base}/panels`, { airframeId, definition: withMotor(motor(30, 1000)) });
+    expect(made.status).toBe(201);
+    motionPanel = made.body.id;
+  });
+  const motion = (elementId: string, rec = recordingId) => bench.visitors.viewer.get(`${base}/panels/${motionPanel}/elements/${elementId}/motion?recordingId=${rec}`);
+
+  it("says where a slow motor falls behind, by how much, against the peak speed and acceleration", async () => {
+    // The airspeed pointer: 0..200 kt over 0..300 degrees, 1.5 degrees per knot. The recording
+    // gives 0, 60, 100, 90 kt at 0, 1, 2, 4 s: angles 0, 90, 150, 135, so speeds 90, 60 and -7.5
+    // degrees per second (peak 90), and speed changes of 30 over 1 s and 67.5 over 1.5 s between
+    // the intervals' midpoints (peak 45 deg/s^2). Hand-computed, as is the rest.
+    const reply = await motion("airspeed");
+    expect(reply.status).toBe(200);
+    const view = reply.body;
+    expect(view).toMatchObject({ panelId: motionPanel, elementId: "airspeed", recordingId, recordingName: "Motion flight", channel: "ias_kt", sampleCount: 4, toleranceDegrees: 2 });
+    expect(view.peakDegreesPerSecond).toBeCloseTo(90, 9);
+    expect(view.peakDegreesPerSecond2).toBeCloseTo(45, 9);
+    expect(view.motorMaxDegreesPerSecond).toBe(30);
+    expect(view.motorAccelerationDegreesPerSecond2).toBe(1000);
+    // The motor (30 deg/s, 1000 deg/s^2) starts chasing each sample's angle at that sample and is
+    // judged at the next one (followTargets). Told 90 at 1 s: 0.03 s to reach 30 deg/s (0.45
+    // degrees), then cruising, so at 2 s it is at 0.45 + 30 * 0.97 = 29.55, 60.45 behind; told 150
+    // at 2 s, still at full speed, at 4 s it is at 29.55 + 60 = 89.55, again 60.45 behind.
+    expect(view.keepsUp).toBe(false);
+    expect(view.behindCount).toBe(1);
+    expect(view.behind[0].startMs).toBe(2000);
+    expect(view.behind[0].endMs).toBe(4000);
+    expect([2000, 4000]).toContain(view.behind[0].worstAtMs); // two equal lags, up to rounding
+    expect(view.behind[0].worstLagDegrees).toBeCloseTo(60.45, 6);
+    expect(view.worstLagDegrees).toBeCloseTo(60.45, 6);
+  });
+
+  it("passes a motor fast enough for the flight", async () => {
+    expect((await builder().request("PUT", `${base}/panels/${motionPanel}`, { definition: withMotor(motor(2000, 100000)) })).status).toBe(200);
+    const view = (await motion("airspeed")).body;
+    expect(view.keepsUp).toBe(true);
+    expect(view.behind).toEqual([]);
+    expect(view.worstLagDegrees).toBeLessThan(2);
+    expect(view.peakDegreesPerSecond).toBeCloseTo(90, 9); // the demand is the recording's, whatever the motor
+  });
+
+  it("refuses elements that are not pointers with motors, unknown elements and foreign recordings", async () => {
+    const lamp = await motion("fire");
+    expect(lamp.status).toBe(422);
+    expect(lamp.body.error.issues[0]).toEqual({ path: "params.elementId", message: '"fire" is a lamp; motion demand is for pointers' });
+    const noMotor = await motion("alt-100");
+    expect(noMotor.status).toBe(422);
+    expect(noMotor.body.error.issues[0].message).toMatch(/has no motor profile/);
+    expect((await motion("no-such-element")).status).toBe(404);
+    const badId = await motion("Not_An_Id");
+    expect(badId.status).toBe(422);
+    expect(badId.body.error.issues[0].path).toBe("params.elementId");
+    expect((await motion("airspeed", "nope")).status).toBe(404);
+    const noQuery = await bench.visitors.viewer.get(`${base}/panels/${motionPanel}/elements/airspeed/motion`);
+    expect(noQuery.status).toBe(422);
+    expect(noQuery.body.error.issues[0].path).toBe("query.recordingId");
+  });
+});
+
 describe("device tokens", () => {
   it("shows a token once, lists without it, and revokes it", async () => {
     const made = await builder().post(`${base}/panels/${panelId}/tokens`, { label: "glareshield board" });

@@ -153,6 +153,82 @@ export function angleFunction(scale: GaugeScale): (value: number) => number {
 }
 
 /**
+ * The value-to-angle of one scale for a per-sample loop: write `value`, call `compute()`, read
+ * `angle`. The number goes in and out through fields because a double passed to or returned from
+ * a call the compiler does not inline is boxed (one allocation per call), and the expected-state
+ * engine does this once per pointer per sample. Sweep scales give what angleFunction gives;
+ * full-circle scales give the travel angle (valueToTravelAngle, turns counted). Same arithmetic in
+ * the same order, so the same bits: tests/unit/elements/scale-interpolation.test.ts compares them.
+ */
+export class AngleComputer {
+  value = 0;
+  angle = 0;
+  // Read by the expected-state engine's fused pointer loop too (shared/expect/pointer-loop.ts).
+  readonly full: boolean;
+  readonly values: Float64Array;
+  readonly angles: Float64Array;
+  readonly tangents: Float64Array | null;
+  readonly angleAtZero: number;
+  readonly sign: number;
+  readonly period: number;
+
+  constructor(scale: GaugeScale) {
+    const p = prepare(scale);
+    this.full = p.kind === "full-circle";
+    this.values = p.kind === "sweep" ? p.values : new Float64Array(0);
+    this.angles = p.kind === "sweep" ? p.angles : new Float64Array(0);
+    this.tangents = p.kind === "sweep" ? p.tangents : null;
+    this.angleAtZero = p.kind === "full-circle" ? p.angleAtZero : 0;
+    this.sign = p.kind === "full-circle" ? p.sign : 1;
+    this.period = p.kind === "full-circle" ? p.period : 1;
+  }
+
+  compute(): void {
+    const value = this.value;
+    if (this.full) {
+      this.angle = this.angleAtZero + (this.sign * 360 * value) / this.period;
+      return;
+    }
+    const xs = this.values;
+    const ys = this.angles;
+    const last = xs.length - 1;
+    if (value < xs[0]) {
+      this.angle = ys[0];
+      return;
+    }
+    if (value > xs[last]) {
+      this.angle = ys[last];
+      return;
+    }
+    // intervalIndex, inlined.
+    let k = 0;
+    let high = xs.length - 2;
+    while (k < high) {
+      const middle = (k + high + 1) >> 1;
+      if (xs[middle] <= value) k = middle;
+      else high = middle - 1;
+    }
+    const tangents = this.tangents;
+    if (tangents === null) {
+      const fraction = (value - xs[k]) / (xs[k + 1] - xs[k]);
+      this.angle = ys[k] + fraction * (ys[k + 1] - ys[k]);
+      return;
+    }
+    // hermiteAt, inlined.
+    const width = xs[k + 1] - xs[k];
+    const t = (value - xs[k]) / width;
+    const t2 = t * t;
+    const t3 = t2 * t;
+    const y0 = ys[k];
+    const y1 = ys[k + 1];
+    const y = (2 * t3 - 3 * t2 + 1) * y0 + (t3 - 2 * t2 + t) * width * tangents[k] + (-2 * t3 + 3 * t2) * y1 + (t3 - t2) * width * tangents[k + 1];
+    const low = y0 < y1 ? y0 : y1;
+    const top = y0 < y1 ? y1 : y0;
+    this.angle = y < low ? low : y > top ? top : y;
+  }
+}
+
+/**
  * The angle without wrapping: for a full-circle scale the turns are counted (value 2,500 ft on a
  * 1,000-ft pointer is 900 degrees), which is what a continuous-rotation motor has to travel. For a
  * sweep scale it is the same as valueToAngle's angle.

@@ -4,7 +4,7 @@ import type { PanelDetail } from "../../../shared/api/panels";
 import { elementChannels, ELEMENT_KINDS, type Element, type ElementKind } from "../../../shared/elements/kinds";
 import type { Panel } from "../../../shared/panel/schema";
 import type { ChannelDefinition } from "../../../shared/recording/channels";
-import { PanelDrawing } from "../../components/PanelDrawing";
+import { arrange, PanelDrawing } from "../../components/PanelDrawing";
 import { Button, Card } from "../../components/ui";
 import { ProblemList } from "./components";
 import { ElementForm } from "./ElementForm";
@@ -47,6 +47,20 @@ function renamed(def: Panel, from: string, to: string): Panel {
     layout: def.layout && { ...def.layout, positions: move(def.layout.positions)! },
     photo: def.photo && { ...def.photo, markers: move(def.photo.markers)! },
   };
+}
+
+/**
+ * The definition with elements placed at `at` on the virtual layout (rotation kept), clamped into
+ * the layout and rounded to a tenth of its unit. A panel without a layout gets one the size of
+ * its drawing, in millimetres.
+ */
+export function placed(def: Panel, ids: readonly string[], at: { x: number; y: number }): Panel {
+  const drawn = arrange(def);
+  const layout = def.layout ?? { width: Math.ceil(drawn.width), height: Math.ceil(drawn.height), unit: "mm" as const, positions: {} };
+  const tenth = (v: number, max: number) => Math.round(Math.min(max, Math.max(0, v)) * 10) / 10;
+  const positions = { ...layout.positions };
+  for (const id of ids) positions[id] = { x: tenth(at.x, layout.width), y: tenth(at.y, layout.height), rotation: positions[id]?.rotation ?? 0 };
+  return { ...def, layout: { ...layout, positions } };
 }
 
 type Editing = { mode: "add"; kind: ElementKind } | { mode: "edit"; id: string } | null;
@@ -122,10 +136,17 @@ export function ElementsTab({ workshopId, panel, channels, canWrite }: { worksho
     <div className="flex flex-col gap-6">
       <div className={`grid gap-6 ${canWrite && !editing ? "xl:grid-cols-[minmax(0,3fr)_minmax(0,2fr)]" : ""}`}>
         <div className="flex flex-col gap-2">
-          <PanelDrawing panel={def} selected={selected} onSelect={setSelected} title={`${def.name}: virtual layout`} />
+          <PanelDrawing
+            // While a new place is being saved, show it there rather than back where it was.
+            panel={replace.isPending && replace.variables ? (replace.variables as Panel) : def}
+            selected={selected}
+            onSelect={setSelected}
+            onPlace={canWrite ? (ids, at) => replace.mutate(placed(def, ids, at)) : undefined}
+            title={`${def.name}: virtual layout`}
+          />
           <p className="text-xs text-ink-soft">
             Drawn from the definition{def.layout ? ` (${def.layout.width} × ${def.layout.height} ${def.layout.unit})` : ""}. Elements without a layout position are set out in a
-            grid. Click an element to find it in the table.
+            grid. {canWrite ? "Drag an element to place it (saved at once); click one to find it in the table." : "Click an element to find it in the table."}
           </p>
         </div>
         <div className="flex flex-col gap-3">

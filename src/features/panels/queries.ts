@@ -1,5 +1,5 @@
 import { keepPreviousData, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { CreatedTokenView, DeviceTokenView, ExpectedView, PanelDetail, PanelSummary } from "../../../shared/api/panels";
+import type { CreatedTokenView, DeviceTokenView, ExpectedView, MotionView, PanelDetail, PanelSummary } from "../../../shared/api/panels";
 import type { PanelInput } from "../../../shared/panel/schema";
 import { api, ApiError } from "../../lib/api";
 
@@ -16,6 +16,8 @@ export const panelKeys = {
   detail: (workshopId: string, panelId: string) => ["workshops", workshopId, "panels", panelId] as const,
   expected: (workshopId: string, panelId: string, recordingId: string, updatedAt: string) =>
     ["workshops", workshopId, "panels", panelId, "expected", recordingId, updatedAt] as const,
+  motion: (workshopId: string, panelId: string, elementId: string, recordingId: string, updatedAt: string) =>
+    ["workshops", workshopId, "panels", panelId, "motion", elementId, recordingId, updatedAt] as const,
   tokens: (workshopId: string, panelId: string) => ["workshops", workshopId, "panels", panelId, "tokens"] as const,
 };
 
@@ -122,6 +124,20 @@ export function useExpected(workshopId: string, panelId: string, recordingId: st
     queryFn: () => api.get<ExpectedView>(`${base(workshopId)}/${panelId}/expected?recordingId=${encodeURIComponent(recordingId ?? "")}`),
     enabled: !!recordingId,
     placeholderData: keepPreviousData,
+    staleTime: Infinity,
+  });
+}
+
+/**
+ * Motion demand of one pointer's saved motor over a recording. Keyed by the panel's `updatedAt`
+ * like the preview, so saving another motor asks again.
+ */
+export function useMotion(workshopId: string, panelId: string, elementId: string, recordingId: string | null, updatedAt: string) {
+  return useQuery({
+    queryKey: panelKeys.motion(workshopId, panelId, elementId, recordingId ?? "", updatedAt),
+    queryFn: () =>
+      api.get<MotionView>(`${base(workshopId)}/${panelId}/elements/${encodeURIComponent(elementId)}/motion?recordingId=${encodeURIComponent(recordingId ?? "")}`),
+    enabled: !!recordingId,
     staleTime: Infinity,
   });
 }

@@ -1,6 +1,10 @@
+import fc from "fast-check";
 import seedrandom from "seedrandom";
 import { describe, expect, it } from "vitest";
 import {
+  AngleComputer,
+  angleFunction,
+  valueToTravelAngle,
   angleMonotonicity,
   angleToValue,
   fritschCarlsonTangents,
@@ -399,5 +403,28 @@ describe("sampling a curve for plotting", () => {
     const samples = sampleScale(scale, { count: 5, fromValue: -100, toValue: 200 });
     expect(samples.map((s) => s.value)).toEqual([-100, -25, 0, 50, 100, 125, 200]);
     expect(samples.map((s) => s.angle)).toEqual([0, 0, 0, 150, 300, 300, 300]);
+  });
+});
+
+describe("AngleComputer (the engine's per-sample form)", () => {
+  it("gives the same bits as angleFunction on sweeps and valueToTravelAngle on full circles", () => {
+    const sweepOf = (interpolation: "linear" | "monotone-cubic") =>
+      gaugeScale.parse({ kind: "sweep", interpolation, points: [0, 40, 60, 100, 200].map((value, i) => ({ value, angle: [0, 15, 90, 200, 300][i] })) });
+    const circle = gaugeScale.parse({ kind: "full-circle", period: 1000, angleAtZero: 12, turn: "counterclockwise" });
+    fc.assert(
+      fc.property(fc.double({ min: -100, max: 400, noNaN: true }), (value) => {
+        for (const scale of [sweepOf("linear"), sweepOf("monotone-cubic")]) {
+          const computer = new AngleComputer(scale);
+          computer.value = value;
+          computer.compute();
+          expect(Object.is(computer.angle, angleFunction(scale)(value))).toBe(true);
+        }
+        const computer = new AngleComputer(circle);
+        computer.value = value;
+        computer.compute();
+        expect(Object.is(computer.angle, valueToTravelAngle(circle, value))).toBe(true);
+      }),
+      { numRuns: 300 },
+    );
   });
 });

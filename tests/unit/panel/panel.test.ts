@@ -11,7 +11,9 @@ import {
   exportPanelJson,
   importPanelJson,
   mirrorPanel,
+  mirroredId,
   panelChannels,
+  panel,
   parsePanel,
 } from "../../../shared/panel";
 import { demoChannels, demoPanels, flightGauges, navBezelLeft, navBezelRight, warningPanel, weatherPlaceholder } from "../../../shared/panel/demo";
@@ -124,6 +126,37 @@ describe("mirrorPanel", () => {
     expect(right.elements[2].label).toBe("GEAR (R)");
     expect(right.elements[3]).toEqual({ ...warningPanel.elements[3], id: "low-fuel-left-r" });
     expect(right.link).toEqual({ kind: "serial" });
+  });
+
+  it("swaps a side already in an id instead of adding a second one (x-left becomes x-right)", () => {
+    expect(mirroredId("x-left", "-right")).toBe("x-right");
+    expect(mirroredId("x-right", "-left")).toBe("x-left");
+    expect(mirroredId("x-right", "-right")).toBe("x-left"); // the mirror of the right one is on the left
+    expect(mirroredId("range-knob", "-right")).toBe("range-knob-right");
+    expect(mirroredId("x-left", "-b")).toBe("x-left-b"); // not a side: appended as before
+    expect(mirroredId("-left", "-right")).toBe("-left-right"); // nothing before the side to keep
+
+    // The glareshield has fire-left and fire-right: mirrored to the right they swap names, so ids
+    // stay unique, and layout, markers and bindings follow each element.
+    const right = mirrorPanel(warningPanel, { idSuffix: "-right" });
+    const ids = right.elements.map((e) => e.id);
+    expect(ids).toContain("fire-right");
+    expect(ids).toContain("fire-left");
+    expect(ids.some((id) => /-(left|right)-(left|right)$/.test(id))).toBe(false);
+    expect(new Set(ids).size).toBe(ids.length);
+    const mirroredFireLeft = right.elements[warningPanel.elements.findIndex((e) => e.id === "fire-left")];
+    expect(mirroredFireLeft.id).toBe("fire-right");
+    expect(mirroredFireLeft.kind === "lamp" && mirroredFireLeft.drive.mode === "condition" && mirroredFireLeft.drive.on.channel).toBe("eng1.fire_warning");
+    expect(right.layout!.positions["fire-right"]).toEqual({ x: 240 - 20, y: 20, rotation: 0 });
+    expect(right.photo!.markers["fire-right"].x).toBeCloseTo(1 - 0.08, 12);
+    expect(right.id).toBe("glareshield-warnings-right");
+    expect(mirrorPanel(navBezelLeft, { idSuffix: "-right" }).id).toBe("nav-bezel-right");
+  });
+
+  it("refuses a mirror whose renamed ids would collide, naming the element", () => {
+    const both = panel.parse({ ...warningPanel, elements: [warningPanel.elements[0], { ...warningPanel.elements[0], id: "fire" }], layout: undefined, photo: undefined });
+    // fire-left -> fire-right, fire -> fire-right: two elements with one id.
+    expect(() => mirrorPanel(both, { idSuffix: "-right" })).toThrow(/duplicate element id \\"fire-right\\"/);
   });
 
   it("mirrors rotations, and mirroring twice gives the layout back", () => {
