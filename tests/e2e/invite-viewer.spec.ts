@@ -1,6 +1,5 @@
 import { expect, test } from "@playwright/test";
-
-const stamp = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 6)}`;
+import { stamp } from "./support";
 
 test("a new builder starts a workshop and invites a viewer, who joins from the outbox and cannot invite", async ({ browser }) => {
   const ownerEmail = `owner-${stamp()}@panelproof.example`;

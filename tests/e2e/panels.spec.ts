@@ -2,6 +2,7 @@ import { readFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
 import sharp from "sharp";
 import { expect, test, type Page } from "@playwright/test";
+import { signUp, stamp } from "./support";
 import { demoChannels } from "../../shared/panel/demo";
 
 /**
@@ -16,21 +17,12 @@ import { demoChannels } from "../../shared/panel/demo";
  * Set SHOTS=/some/folder to keep a screenshot of each screen on the way.
  */
 
-const stamp = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 6)}`;
 const shot = async (page: Page, name: string) => {
   if (process.env.SHOTS) await page.screenshot({ path: `${process.env.SHOTS}/panels-${name}.png`, fullPage: true });
 };
 
 const DEMO_FLIGHT = fileURLToPath(new URL("../../recordings/demo-pattern-flight.ppr.jsonl", import.meta.url));
 
-async function signUp(page: Page, name: string, email: string) {
-  await page.goto("/sign-up");
-  await page.getByLabel("Your name").fill(name);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill("rivet-gauge-3141");
-  await page.getByRole("button", { name: "Create account" }).click();
-  await expect(page.getByRole("heading", { name: "Your workshops" })).toBeVisible();
-}
 
 /** An invented photo of a panel: a dark plate with four light patches where the elements sit. */
 async function panelPhoto(): Promise<Buffer> {

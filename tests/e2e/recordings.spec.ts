@@ -1,5 +1,6 @@
 import { createSocket } from "node:dgram";
 import { expect, test, type APIRequestContext, type Page } from "@playwright/test";
+import { signUp, stamp } from "./support";
 
 /**
  * Recordings in the browser (issue 3): upload a Panelproof file with a visible progress bar and
@@ -10,7 +11,6 @@ import { expect, test, type APIRequestContext, type Page } from "@playwright/tes
  * Set SHOTS=/some/folder to keep a screenshot of each screen on the way.
  */
 
-const stamp = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 6)}`;
 const shot = async (page: Page, name: string) => {
   if (process.env.SHOTS) await page.screenshot({ path: `${process.env.SHOTS}/${name}.png`, fullPage: true });
 };
@@ -47,14 +47,6 @@ function panelproofFile(): string {
   return `${lines.join("\n")}\n`;
 }
 
-async function signUp(page: Page, name: string, email: string) {
-  await page.goto("/sign-up");
-  await page.getByLabel("Your name").fill(name);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill("rivet-gauge-3141");
-  await page.getByRole("button", { name: "Create account" }).click();
-  await expect(page.getByRole("heading", { name: "Your workshops" })).toBeVisible();
-}
 
 /** A new owner with a workshop and an airframe whose catalogue is empty. Returns the workshop id. */
 async function ownerWithAirframe(page: Page, workshop: string): Promise<string> {

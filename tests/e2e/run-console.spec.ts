@@ -1,4 +1,5 @@
 import { expect, test, type Page } from "@playwright/test";
+import { airframeWith, importedRecording, ownerOfNewWorkshop, panelFrom } from "./support";
 
 /**
  * The run console's live features (issue 6) in the browser, with this browser as the virtual
@@ -8,7 +9,6 @@ import { expect, test, type Page } from "@playwright/test";
  * by key and by click, ending in an observed mismatch.
  */
 
-const stamp = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 6)}`;
 
 // An invented test rig: the FIRE warning lights from 2 s to 4 s; the gear lever goes up at 2 s; 16 s long.
 const CHANNELS = [
@@ -47,34 +47,13 @@ const DEFINITION = {
 /** Keys go to the console, not to a focused button (which takes space itself). */
 const blur = (page: Page) => page.evaluate(() => (document.activeElement as HTMLElement | null)?.blur());
 
-async function signUp(page: Page, name: string, email: string) {
-  await page.goto("/sign-up");
-  await page.getByLabel("Your name").fill(name);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill("rivet-gauge-3141");
-  await page.getByRole("button", { name: "Create account" }).click();
-  await expect(page.getByRole("heading", { name: "Your workshops" })).toBeVisible();
-}
 
 test("set-up check, input walk, keys and observations in the run console", async ({ page }) => {
   test.setTimeout(180_000);
-  await signUp(page, "Ada Solder", `console-${stamp()}@panelproof.example`);
-  await page.getByLabel("Workshop name").fill("Larkfield Garage Cockpit Club");
-  await page.getByRole("button", { name: "Create workshop" }).click();
-  await expect(page.getByRole("heading", { name: "Larkfield Garage Cockpit Club" })).toBeVisible();
-  const workshopId = /\/w\/([^/]+)/.exec(page.url())![1];
-  const api = `/api/workshops/${workshopId}`;
-
-  const airframe = await page.request.post(`${api}/airframes`, { data: { name: "Console rig" } });
-  const airframeId = (await airframe.json()).id as string;
-  expect((await page.request.put(`${api}/airframes/${airframeId}/channels`, { data: { channels: CHANNELS } })).status()).toBe(200);
-  const upload = await page.request.post(`${api}/recordings/uploads?name=Console%20flight&airframeId=${airframeId}&format=ppr`, { headers: { "content-type": "application/octet-stream" }, data: Buffer.from(RECORDING) });
-  expect(upload.status()).toBe(202);
-  const importId = (await upload.json()).id as string;
-  await expect.poll(async () => (await (await page.request.get(`${api}/imports/${importId}`)).json()).state, { timeout: 30_000 }).toBe("done");
-  const created = await page.request.post(`${api}/panels`, { data: { airframeId, definition: DEFINITION } });
-  expect(created.status()).toBe(201);
-  const panelId = (await created.json()).id as string;
+  const { workshopId, api } = await ownerOfNewWorkshop(page, "Ada Solder", "console", "Larkfield Garage Cockpit Club");
+  const airframeId = await airframeWith(page, api, "Console rig", CHANNELS);
+  await importedRecording(page, api, airframeId, "Console flight", Buffer.from(RECORDING));
+  const panelId = await panelFrom(page, api, airframeId, DEFINITION);
 
   // Set up: virtual link, speed 1, the FIRE lamp watched by eye.
   await page.goto(`/w/${workshopId}/runs/new`);

@@ -1,4 +1,5 @@
-import { expect, test, type Page } from "@playwright/test";
+import { expect, test } from "@playwright/test";
+import { airframeWith, importedRecording, ownerOfNewWorkshop, panelFrom, stamp } from "./support";
 import { PanelEmulator } from "../../server/bench/device-emulator";
 import { hostOnWebSocket } from "../../server/bench/device-runner";
 import { demoChannels } from "../../shared/panel/demo/airframe";
@@ -16,7 +17,6 @@ import type { Fault } from "../../shared/virtual/faults";
  * from the real bench and judge; the browser is used for what this issue adds.
  */
 
-const stamp = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 6)}`;
 const SPEED = 4;
 
 const CHANNEL_NAMES = ["eng1.fire_warning", "annun.gen_fail", "ias_kt"];
@@ -46,38 +46,13 @@ const definition = {
   layout: { width: 300, height: 120, positions: { fire: { x: 50, y: 40 }, gen: { x: 130, y: 40 }, airspeed: { x: 230, y: 60 } } },
 };
 
-async function signUp(page: Page, name: string, email: string) {
-  await page.goto("/sign-up");
-  await page.getByLabel("Your name").fill(name);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill("rivet-gauge-3141");
-  await page.getByRole("button", { name: "Create account" }).click();
-  await expect(page.getByRole("heading", { name: "Your workshops" })).toBeVisible();
-}
 
 test("a builder compares two runs, e-mails the report, scrubs the panel and reads a pointer's traces", async ({ page, baseURL }) => {
   test.setTimeout(150_000);
-  await signUp(page, "Ada Solder", `report-owner-${stamp()}@panelproof.example`);
-  await page.getByLabel("Workshop name").fill("Larkfield Garage Cockpit Club");
-  await page.getByRole("button", { name: "Create workshop" }).click();
-  await expect(page.getByRole("heading", { name: "Larkfield Garage Cockpit Club" })).toBeVisible();
-  const workshopId = /\/w\/([^/]+)/.exec(page.url())![1];
-  const api = `/api/workshops/${workshopId}`;
-
-  const airframe = await page.request.post(`${api}/airframes`, { data: { name: "Marlin TX-2 (invented twin)" } });
-  const airframeId = (await airframe.json()).id as string;
-  expect((await page.request.put(`${api}/airframes/${airframeId}/channels`, { data: { channels: demoChannels } })).status()).toBe(200);
-  const upload = await page.request.post(`${api}/recordings/uploads?name=Eight%20second%20check&airframeId=${airframeId}&format=ppr`, {
-    headers: { "content-type": "application/octet-stream" },
-    data: Buffer.from(RECORDING),
-  });
-  expect(upload.status()).toBe(202);
-  const importId = (await upload.json()).id as string;
-  await expect.poll(async () => (await (await page.request.get(`${api}/imports/${importId}`)).json()).state, { timeout: 30_000 }).toBe("done");
-  const recordingId = (await (await page.request.get(`${api}/imports/${importId}`)).json()).recordingId as string;
-  const created = await page.request.post(`${api}/panels`, { data: { airframeId, definition } });
-  expect(created.status()).toBe(201);
-  const panelId = (await created.json()).id as string;
+  const { workshopId, api } = await ownerOfNewWorkshop(page, "Ada Solder", "report-owner", "Larkfield Garage Cockpit Club");
+  const airframeId = await airframeWith(page, api, "Marlin TX-2 (invented twin)", demoChannels);
+  const recordingId = await importedRecording(page, api, airframeId, "Eight second check", Buffer.from(RECORDING));
+  const panelId = await panelFrom(page, api, airframeId, definition);
 
   const cookie = (await page.context().cookies()).map((c) => `${c.name}=${c.value}`).join("; ");
   async function playRun(name: string, faults: Fault[]): Promise<string> {

@@ -1,6 +1,7 @@
 import { readFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
-import { expect, test, type Page } from "@playwright/test";
+import { expect, test } from "@playwright/test";
+import { airframeWith, importedRecording, ownerOfNewWorkshop, panelFrom } from "./support";
 import { demoChannels } from "../../shared/panel/demo/airframe";
 import { warningPanel } from "../../shared/panel/demo/panels";
 
@@ -11,42 +12,17 @@ import { warningPanel } from "../../shared/panel/demo/panels";
  * shares the report (opened in a fresh, signed-out context) and downloads the JUnit file.
  */
 
-const stamp = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 6)}`;
 const DEMO_FLIGHT = fileURLToPath(new URL("../../recordings/demo-pattern-flight.ppr.jsonl", import.meta.url));
 
-async function signUp(page: Page, name: string, email: string) {
-  await page.goto("/sign-up");
-  await page.getByLabel("Your name").fill(name);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill("rivet-gauge-3141");
-  await page.getByRole("button", { name: "Create account" }).click();
-  await expect(page.getByRole("heading", { name: "Your workshops" })).toBeVisible();
-}
 
 test("a builder replays a flight into a virtual panel with two faults, sees them, shares the report and downloads JUnit", async ({ page, browser }) => {
   test.setTimeout(180_000);
-  await signUp(page, "Ada Solder", `run-owner-${stamp()}@panelproof.example`);
-  await page.getByLabel("Workshop name").fill("Garage Bench Runs");
-  await page.getByRole("button", { name: "Create workshop" }).click();
-  await expect(page.getByRole("heading", { name: "Garage Bench Runs" })).toBeVisible();
-  const workshopId = /\/w\/([^/]+)/.exec(page.url())![1];
-  const api = `/api/workshops/${workshopId}`;
+  const { api } = await ownerOfNewWorkshop(page, "Ada Solder", "run-owner", "Garage Bench Runs");
 
   // Airframe, catalogue, the demo flight and the warning panel, through the API.
-  const airframe = await page.request.post(`${api}/airframes`, { data: { name: "Marlin TX-2 (invented twin)" } });
-  expect(airframe.status()).toBe(201);
-  const airframeId = (await airframe.json()).id as string;
-  expect((await page.request.put(`${api}/airframes/${airframeId}/channels`, { data: { channels: demoChannels } })).status()).toBe(200);
-  const upload = await page.request.post(`${api}/recordings/uploads?name=Pattern%20flight&airframeId=${airframeId}&format=ppr&addDraftChannels=true`, {
-    headers: { "content-type": "application/octet-stream" },
-    data: readFileSync(DEMO_FLIGHT),
-  });
-  expect(upload.status()).toBe(202);
-  const importId = (await upload.json()).id as string;
-  await expect.poll(async () => (await (await page.request.get(`${api}/imports/${importId}`)).json()).state, { timeout: 30_000 }).toBe("done");
-  const created = await page.request.post(`${api}/panels`, { data: { airframeId, definition: warningPanel } });
-  expect(created.status()).toBe(201);
-  const panelId = (await created.json()).id as string;
+  const airframeId = await airframeWith(page, api, "Marlin TX-2 (invented twin)", demoChannels);
+  await importedRecording(page, api, airframeId, "Pattern flight", readFileSync(DEMO_FLIGHT), { addDraftChannels: true });
+  const panelId = await panelFrom(page, api, airframeId, warningPanel);
 
   // Set up the run through the UI: virtual link, two faults on two elements, speed 8.
   await page.getByRole("navigation", { name: "Workshop" }).getByRole("link", { name: "Runs" }).click();

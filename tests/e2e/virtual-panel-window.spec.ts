@@ -1,6 +1,7 @@
 import { readFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
 import { expect, test, type Page } from "@playwright/test";
+import { airframeWith, importedRecording, ownerOfNewWorkshop, panelFrom } from "./support";
 import { demoChannels } from "../../shared/panel/demo/airframe";
 import { flightGauges } from "../../shared/panel/demo/panels";
 
@@ -10,43 +11,17 @@ import { flightGauges } from "../../shared/panel/demo/panels";
  * panel follow (its needles move); the console leaves the link to that window and draws what it
  * shows. Closing the window hands the panel back to the console.
  */
-const stamp = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 6)}`;
 const DEMO_FLIGHT = fileURLToPath(new URL("../../recordings/demo-pattern-flight.ppr.jsonl", import.meta.url));
 
-async function signUp(page: Page, name: string, email: string) {
-  await page.goto("/sign-up");
-  await page.getByLabel("Your name").fill(name);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill("rivet-gauge-3141");
-  await page.getByRole("button", { name: "Create account" }).click();
-  await expect(page.getByRole("heading", { name: "Your workshops" })).toBeVisible();
-}
 
 const angleOf = (page: Page, pointer: string) => page.locator(`[data-pointer="${pointer}"]`).first().getAttribute("data-angle");
 
 test("a virtual panel in its own window follows the run played from the console", async ({ page, context }) => {
   test.setTimeout(150_000);
-  await signUp(page, "Ines Harness", `window-owner-${stamp()}@panelproof.example`);
-  await page.getByLabel("Workshop name").fill("Two Window Bench");
-  await page.getByRole("button", { name: "Create workshop" }).click();
-  await expect(page.getByRole("heading", { name: "Two Window Bench" })).toBeVisible();
-  const workshopId = /\/w\/([^/]+)/.exec(page.url())![1];
-  const api = `/api/workshops/${workshopId}`;
-
-  const airframe = await page.request.post(`${api}/airframes`, { data: { name: "Marlin TX-2 (invented twin)" } });
-  const airframeId = (await airframe.json()).id as string;
-  expect((await page.request.put(`${api}/airframes/${airframeId}/channels`, { data: { channels: demoChannels } })).status()).toBe(200);
-  const upload = await page.request.post(`${api}/recordings/uploads?name=Pattern%20flight&airframeId=${airframeId}&format=ppr&addDraftChannels=true`, {
-    headers: { "content-type": "application/octet-stream" },
-    data: readFileSync(DEMO_FLIGHT),
-  });
-  expect(upload.status()).toBe(202);
-  const importId = (await upload.json()).id as string;
-  await expect.poll(async () => (await (await page.request.get(`${api}/imports/${importId}`)).json()).state, { timeout: 30_000 }).toBe("done");
-  const recordingId = (await (await page.request.get(`${api}/imports/${importId}`)).json()).recordingId as string;
-  const panel = await page.request.post(`${api}/panels`, { data: { airframeId, definition: flightGauges } });
-  expect(panel.status()).toBe(201);
-  const panelId = (await panel.json()).id as string;
+  const { workshopId, api } = await ownerOfNewWorkshop(page, "Ines Harness", "window-owner", "Two Window Bench");
+  const airframeId = await airframeWith(page, api, "Marlin TX-2 (invented twin)", demoChannels);
+  const recordingId = await importedRecording(page, api, airframeId, "Pattern flight", readFileSync(DEMO_FLIGHT), { addDraftChannels: true });
+  const panelId = await panelFrom(page, api, airframeId, flightGauges);
   const made = await page.request.post(`${api}/runs`, { data: { name: "Gauges in a second window", recordingId, speed: 4, links: [{ kind: "virtual", panelId }] } });
   expect(made.status()).toBe(201);
   const runId = (await made.json()).id as string;
