@@ -88,3 +88,18 @@ export function testImage(width: number, height: number, format: "jpeg" | "png" 
   const img = sharp({ create: { width, height, channels: 3, background: { r: 40, g: 44, b: 48 } } });
   return (format === "jpeg" ? img.jpeg() : format === "png" ? img.png() : img.webp()).toBuffer();
 }
+
+/**
+ * An invented flight on the test rig (the channels above): the FIRE warning comes on at 2 s and
+ * goes off at 4 s, the transponder code changes at 3 s, the gear goes up at 2 s; airspeed never
+ * above 100 kt; pointers step (frames more than 250 ms apart). Eight seconds long.
+ */
+export const RIG_FLIGHT = `{"format":"panelproof-recording","version":1,"airframe":"Rig","channels":${JSON.stringify(PANEL_CHANNELS)}}
+{"t":0,"v":{"elec.master":true,"eng1.fire_warning":false,"alt.baro_ft":320,"ias_kt":0,"gear.handle":"DOWN","xpdr.code":"1200"}}
+{"t":1000,"v":{"alt.baro_ft":445,"ias_kt":60}}
+{"t":2000,"v":{"eng1.fire_warning":true,"alt.baro_ft":600,"ias_kt":100,"gear.handle":"UP"}}
+{"t":3000,"v":{"xpdr.code":"7700"}}
+{"t":4000,"v":{"eng1.fire_warning":false,"ias_kt":90}}
+{"t":6000,"v":{"alt.baro_ft":700}}
+{"t":8000,"v":{"ias_kt":80}}
+`;

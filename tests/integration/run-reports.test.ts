@@ -8,7 +8,7 @@ import { normalizeAngle } from "../../shared/elements/scale/scale";
 import { panel as panelSchema, type Panel } from "../../shared/panel/schema";
 import { parseRecording } from "../../shared/recording/recording-file";
 import { startBench, type Bench } from "./recordings-support";
-import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording } from "./panels-support";
+import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording, RIG_FLIGHT } from "./panels-support";
 
 /**
  * The report side of runs (issue 6): history with pass rates, comparing two runs, e-mailing a
@@ -18,17 +18,8 @@ import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording } fr
  * comparator from storage, exactly as a finished run is judged.
  */
 
-// An invented rig flight: FIRE on from 2 s to 4 s, the transponder code changes at 3 s,
-// gear up at 2 s; airspeed never above 100 kt on a 0..200 kt dial.
-const RECORDING = `{"format":"panelproof-recording","version":1,"airframe":"Rig","channels":${JSON.stringify(PANEL_CHANNELS)}}
-{"t":0,"v":{"elec.master":true,"eng1.fire_warning":false,"alt.baro_ft":320,"ias_kt":0,"gear.handle":"DOWN","xpdr.code":"1200"}}
-{"t":1000,"v":{"alt.baro_ft":445,"ias_kt":60}}
-{"t":2000,"v":{"eng1.fire_warning":true,"alt.baro_ft":600,"ias_kt":100,"gear.handle":"UP"}}
-{"t":3000,"v":{"xpdr.code":"7700"}}
-{"t":4000,"v":{"eng1.fire_warning":false,"ias_kt":90}}
-{"t":6000,"v":{"alt.baro_ft":700}}
-{"t":8000,"v":{"ias_kt":80}}
-`;
+// The invented rig flight of panels-support.ts: FIRE 2 s to 4 s, gear up at 2 s, code 7700 at 3 s.
+const RECORDING = RIG_FLIGHT;
 const END_MS = 8000;
 
 let bench: Bench;

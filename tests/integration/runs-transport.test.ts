@@ -7,7 +7,7 @@ import { panel as panelSchema, type Panel } from "../../shared/panel/schema";
 import type { ChannelDefinition } from "../../shared/recording/channels";
 import type { Fault } from "../../shared/virtual/faults";
 import { cookieOf, startBench, type Bench } from "./recordings-support";
-import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording } from "./panels-support";
+import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording, RIG_FLIGHT } from "./panels-support";
 
 /**
  * The run console's live features through the HTTP API (issue 6): transport (step, seek, loop,
@@ -16,16 +16,8 @@ import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording } fr
  * and a virtual link's faults changed during the run.
  */
 
-// The same invented flight as runs.test.ts: FIRE on from 2 s to 4 s, gear up at 2 s.
-const RECORDING = `{"format":"panelproof-recording","version":1,"airframe":"Rig","channels":${JSON.stringify(PANEL_CHANNELS)}}
-{"t":0,"v":{"elec.master":true,"eng1.fire_warning":false,"alt.baro_ft":320,"ias_kt":0,"gear.handle":"DOWN","xpdr.code":"1200"}}
-{"t":1000,"v":{"alt.baro_ft":445,"ias_kt":60}}
-{"t":2000,"v":{"eng1.fire_warning":true,"alt.baro_ft":600,"ias_kt":100,"gear.handle":"UP"}}
-{"t":3000,"v":{"xpdr.code":"7700"}}
-{"t":4000,"v":{"eng1.fire_warning":false,"ias_kt":90}}
-{"t":6000,"v":{"alt.baro_ft":700}}
-{"t":8000,"v":{"ias_kt":80}}
-`;
+// The invented rig flight of panels-support.ts: FIRE 2 s to 4 s, gear up at 2 s, code 7700 at 3 s.
+const RECORDING = RIG_FLIGHT;
 
 // Speed 2 and an 800 ms lag budget, as in runs.test.ts: these tests are about the bench, not this machine's speed.
 const SPEED = 2;

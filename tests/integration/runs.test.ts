@@ -11,7 +11,7 @@ import type { Fault } from "../../shared/virtual/faults";
 import type { ChannelDefinition } from "../../shared/recording/channels";
 import { openPtyPair } from "../support/pty-pair";
 import { cookieOf, startBench, type Bench } from "./recordings-support";
-import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording } from "./panels-support";
+import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording, RIG_FLIGHT } from "./panels-support";
 
 /**
  * Runs end to end on the real database and real sockets: a recording replayed into panels
@@ -19,17 +19,8 @@ import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording } fr
  * showing what the panel's own behaviours say), judged live and from the stored seen log.
  */
 
-// An invented flight on the test rig: the FIRE warning comes on at 2 s and goes off at 4 s, the
-// transponder code changes at 3 s, the gear goes up at 2 s; pointers step (frames > 250 ms apart).
-const RUN_RECORDING = `{"format":"panelproof-recording","version":1,"airframe":"Rig","channels":${JSON.stringify(PANEL_CHANNELS)}}
-{"t":0,"v":{"elec.master":true,"eng1.fire_warning":false,"alt.baro_ft":320,"ias_kt":0,"gear.handle":"DOWN","xpdr.code":"1200"}}
-{"t":1000,"v":{"alt.baro_ft":445,"ias_kt":60}}
-{"t":2000,"v":{"eng1.fire_warning":true,"alt.baro_ft":600,"ias_kt":100,"gear.handle":"UP"}}
-{"t":3000,"v":{"xpdr.code":"7700"}}
-{"t":4000,"v":{"eng1.fire_warning":false,"ias_kt":90}}
-{"t":6000,"v":{"alt.baro_ft":700}}
-{"t":8000,"v":{"ias_kt":80}}
-`;
+// The invented rig flight of panels-support.ts: FIRE 2 s to 4 s, gear up at 2 s, code 7700 at 3 s.
+const RUN_RECORDING = RIG_FLIGHT;
 
 // Speed 2: a report's wall latency counts twice in recording time, and these tests share two cores.
 const SPEED = 2;
