@@ -72,9 +72,14 @@ export function runsRouter(services: Services) {
    * virtual link's faults as they stand) and the checks (live from the session when held here).
    */
   async function consoleDetailOf(row: typeof run.$inferSelect): Promise<RunDetail> {
+    const detail = await detailOf(db, row, runs);
+    // Read the live state and the checks at one instant, after the awaits above: a checkpoint
+    // that paused the run meanwhile must not read as "asking" while the state still says playing.
     const session = runs.session(row.id);
+    const live = session?.view();
     return {
-      ...(await detailOf(db, row, runs)),
+      ...detail,
+      ...(live ? { state: live.state, positionMs: live.positionMs, speed: live.speed } : {}),
       settings: row.links,
       checks: session ? session.checksView() : { ...runChecks.parse(row.checks ?? {}), setup: null },
     };
