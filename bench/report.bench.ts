@@ -10,7 +10,7 @@ import type { BenchReport } from "./harness";
  * columns, shared/compare/lane-bands.ts), sort for the table's first page (100 rows drawn), and
  * find what is failing at the shown instant. Also the server's grouping of mismatches under their
  * elements (server/bench/report.ts exportOf). Baseline: parsing the same bytes and one bare loop
- * over the same mismatches, in the same run. A manual Chromium figure is in docs/run-report.md.
+ * over the same mismatches, in the same run. The page itself in Chromium: bench/report-page.bench.ts.
  */
 
 const ELEMENTS = 200;

@@ -45,36 +45,60 @@ const MAIL_INTERVALS_PER_ELEMENT = 5;
 /**
  * Expected views are computed from the whole recording (segment reads and the behaviours); the
  * report page asks once per run, but several readers may open one report. Kept per run and judged
- * span, a few at a time: a run's recording and panel snapshots never change.
+ * span, a few at a time: a run's recording and panel snapshots never change. What is kept is the
+ * promise, so the report page's /expected and /traces asking at once share one computation (they
+ * used to compute the hour twice), and the JSON text, so a repeat visit is not stringified again
+ * (an hour of 200 elements is megabytes; stringifying it held the event loop).
  */
-const expectedCache = new Map<string, RunExpectedView>();
+interface ExpectedEntry {
+  view: Promise<RunExpectedView>;
+  json?: string;
+}
+const expectedCache = new Map<string, ExpectedEntry>();
 const EXPECTED_CACHE_SIZE = 8;
 
-async function expectedViewOf(services: Services, row: RunRow): Promise<RunExpectedView> {
-  const fromMs = row.segment?.fromMs ?? 0;
+function expectedEntryOf(services: Services, row: RunRow): ExpectedEntry {
   const key = `${row.id}:${row.positionMs}:${row.durationMs}`;
   const cached = expectedCache.get(key);
   if (cached) return cached;
+  const entry: ExpectedEntry = { view: computeExpectedView(services, row) };
+  expectedCache.set(key, entry);
+  // A failed computation is not kept: the next reader tries again.
+  entry.view.catch(() => expectedCache.get(key) === entry && expectedCache.delete(key));
+  while (expectedCache.size > EXPECTED_CACHE_SIZE) expectedCache.delete(expectedCache.keys().next().value!);
+  return entry;
+}
+
+const expectedViewOf = (services: Services, row: RunRow) => expectedEntryOf(services, row).view;
+
+/** The view as JSON text, made once per cached view. */
+async function expectedJsonOf(services: Services, row: RunRow): Promise<string> {
+  const entry = expectedEntryOf(services, row);
+  const view = await entry.view;
+  entry.json ??= JSON.stringify(view);
+  return entry.json;
+}
+
+const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
+
+async function computeExpectedView(services: Services, row: RunRow): Promise<RunExpectedView> {
+  const fromMs = row.segment?.fromMs ?? 0;
   const rec = await loadRecording(services.db, row.recordingId);
   const toMs = Math.max(fromMs, Math.min(row.positionMs, row.segment?.toMs ?? rec.durationMs, rec.durationMs));
-  const view: RunExpectedView = {
-    runId: row.id,
-    judgedFromMs: fromMs,
-    judgedToMs: toMs,
-    panels: row.panels.map((p) => {
-      const timelines = expectTimelines(p.definition, rec.frames, { endMs: rec.durationMs });
-      return {
-        panelId: p.panelId,
-        name: p.name,
-        definition: p.definition,
-        timelines,
-        coverageGaps: coverageGaps(p.definition.elements, { ...panelCoverage(p.definition, timelines), panelId: p.panelId }, rec.channels),
-      };
-    }),
-  };
-  expectedCache.set(key, view);
-  while (expectedCache.size > EXPECTED_CACHE_SIZE) expectedCache.delete(expectedCache.keys().next().value!);
-  return view;
+  const panels: RunExpectedView["panels"] = [];
+  for (const p of row.panels) {
+    // Other requests (the report itself, the mismatches) get a turn between panels.
+    await nextTurn();
+    const timelines = expectTimelines(p.definition, rec.frames, { endMs: rec.durationMs });
+    panels.push({
+      panelId: p.panelId,
+      name: p.name,
+      definition: p.definition,
+      timelines,
+      coverageGaps: coverageGaps(p.definition.elements, { ...panelCoverage(p.definition, timelines), panelId: p.panelId }, rec.channels),
+    });
+  }
+  return { runId: row.id, judgedFromMs: fromMs, judgedToMs: toMs, panels };
 }
 
 /** One pointer's expected angle track beside every angle the panel reported for it. */
@@ -269,7 +293,7 @@ export function workshopRunReportsRouter(services: Services) {
   router.get("/:workshopId/runs/:runId/expected", async (req, res) => {
     const { workshopId, runId } = parseParams(req, runParams);
     authorize(runPolicy.compare(await member(req, workshopId)), forbidden);
-    res.json(await expectedViewOf(services, await findRun(workshopId, runId)));
+    res.type("json").send(await expectedJsonOf(services, await findRun(workshopId, runId)));
   });
 
   router.get("/:workshopId/runs/:runId/traces", async (req, res) => {
@@ -312,7 +336,7 @@ function sharedReportExtrasRouter(services: Services) {
 
   router.get("/:token/expected", async (req, res) => {
     const row = await sharedRun(req, res);
-    if (row) res.json(await expectedViewOf(services, row));
+    if (row) res.type("json").send(await expectedJsonOf(services, row));
   });
 
   router.get("/:token/traces", async (req, res) => {

@@ -6,15 +6,15 @@ import { Button, Card, DoneNote, ErrorNote, Loading, PageTitle } from "../compon
 import { ApiError } from "../lib/api";
 import { useMembers } from "../lib/queries";
 import { ReportBody } from "../features/runs/ReportBody";
-import { exportJsonUrl, junitUrl, useCreateShare, useRevokeShare, useRunReport, useShares, type CreatedShareView, type RunReportView } from "../features/runs/queries";
-import { useEmailReport, usePanelRunHistory } from "../features/runs/report-queries";
+import { exportJsonUrl, junitUrl, useCreateShare, useRevokeShare, useShares, type CreatedShareView, type RunReportView } from "../features/runs/queries";
+import { useEmailReport, usePanelRunHistory, useRunReportView } from "../features/runs/report-queries";
 import { formatPercent } from "../features/runs/PanelRunHistory";
 
 /** One run's report: summary, elements, mismatches, downloads, comparison, e-mail and share links. */
 export function RunReport() {
   const w = useOutletContext<WorkshopDetail>();
   const { runId = "" } = useParams();
-  const report = useRunReport(w.id, runId);
+  const report = useRunReportView(w.id, runId);
   const canShare = w.role === "owner" || w.role === "builder" || w.abilities.includes("bench.write");
 
   if (report.isPending) return <Loading what="Reading the report" />;

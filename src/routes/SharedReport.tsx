@@ -3,12 +3,12 @@ import { Gauge } from "../components/Gauge";
 import { ErrorNote, Loading, PageTitle } from "../components/ui";
 import { ApiError } from "../lib/api";
 import { ReportBody } from "../features/runs/ReportBody";
-import { useSharedReport } from "../features/runs/queries";
+import { useSharedReportView } from "../features/runs/report-queries";
 
 /** A run's report through a share link: outside sign-in, read-only, and plain about revoked or expired links. */
 export function SharedReport() {
   const { token = "" } = useParams();
-  const report = useSharedReport(token);
+  const report = useSharedReportView(token);
   return (
     <div className="min-h-full">
       <header className="bg-bezel text-dial">

@@ -6,7 +6,7 @@ import {
   type ColumnFiltersState,
   type SortingState,
 } from "@tanstack/react-table";
-import { useMemo, useState } from "react";
+import { memo, useMemo, useState } from "react";
 import { MISMATCH_KINDS } from "../../../shared/compare/types";
 import type { LiveMismatch } from "./live";
 import { clock, Empty, MISMATCH_WORDS } from "./words";
@@ -15,9 +15,10 @@ const col = createColumnHelper<LiveMismatch>();
 
 /**
  * Every mismatch kept: sortable, filtered by element and kind, shown a page at a time (a run may
- * keep 10,000 and the page must stay quick); a click seeks there when allowed.
+ * keep 10,000 and the page must stay quick); a click seeks there when allowed. Memoized: the report
+ * page moves its instant often and this table does not show it.
  */
-export function MismatchTable({
+export const MismatchTable = memo(function MismatchTable({
   mismatches,
   labels,
   onSeek,
@@ -189,4 +190,4 @@ export function MismatchTable({
       )}
     </div>
   );
-}
+});

@@ -1,4 +1,4 @@
-import { useMemo } from "react";
+import { memo, useMemo } from "react";
 import type { RunExpectedPanel } from "../../../shared/api/run-reports";
 import { expectedAt } from "../../../shared/expect/lookup";
 import type { ExpectedState } from "../../../shared/expect/types";
@@ -19,7 +19,7 @@ export interface InstantMismatch {
  * then (expectedAt of the run's expected timelines), and every element in a mismatch at that
  * instant framed, crossed and labelled (shape and words as well as colour).
  */
-export function PanelAtInstant({ panel, atMs, mismatches }: { panel: RunExpectedPanel; atMs: number; mismatches: readonly InstantMismatch[] }) {
+export const PanelAtInstant = memo(function PanelAtInstant({ panel, atMs, mismatches }: { panel: RunExpectedPanel; atMs: number; mismatches: readonly InstantMismatch[] }) {
   const states = useMemo(() => {
     const out: Record<string, ExpectedState> = {};
     for (const tl of panel.timelines.elements) out[tl.id] = expectedAt(tl, atMs);
@@ -30,7 +30,7 @@ export function PanelAtInstant({ panel, atMs, mismatches }: { panel: RunExpected
   const a = useMemo(() => arrange(panel.definition), [panel.definition]);
   const pad = a.cell * 0.7;
   const vb = `${-pad} ${-pad} ${a.width + pad * 2} ${a.height + pad * 2}`;
-  const labels = new Map(panel.definition.elements.map((e) => [e.id, e.label]));
+  const labels = useMemo(() => new Map(panel.definition.elements.map((e) => [e.id, e.label])), [panel.definition]);
 
   return (
     <section className="flex flex-col gap-2" aria-label={`${panel.name} at ${clock(atMs)}`}>
@@ -65,4 +65,4 @@ export function PanelAtInstant({ panel, atMs, mismatches }: { panel: RunExpected
       </ul>
     </section>
   );
-}
+});

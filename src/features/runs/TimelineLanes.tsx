@@ -1,4 +1,4 @@
-import { useMemo, useState, type MouseEvent } from "react";
+import { memo, useMemo, useState, type MouseEvent } from "react";
 import { laneBands, type LaneBand, type TimeInterval } from "../../../shared/compare/lane-bands";
 import { clock } from "./words";
 
@@ -47,7 +47,7 @@ const MARK: Record<string, string> = { pass: "●", fail: "✕", untested: "○"
  * virtualized (only those scrolled into view are drawn) and bands merged per drawn column, so a
  * run with 200 elements and 10,000 mismatches stays quick; a click seeks there.
  */
-export function TimelineLanes({ elements, mismatches, gaps, fromMs = 0, durationMs, positionMs, onSeek, changes }: TimelineLanesProps) {
+export const TimelineLanes = memo(function TimelineLanes({ elements, mismatches, gaps, fromMs = 0, durationMs, positionMs, onSeek, changes }: TimelineLanesProps) {
   const toMs = fromMs + Math.max(1, durationMs);
   const [scrollTop, setScrollTop] = useState(0);
 
@@ -181,4 +181,4 @@ export function TimelineLanes({ elements, mismatches, gaps, fromMs = 0, duration
       </p>
     </div>
   );
-}
+});

@@ -1,7 +1,7 @@
 import { useMutation, useQuery } from "@tanstack/react-query";
 import type { EmailReportAnswer, EmailReportBody, PanelRunHistoryRow, PointerTracesView, RunComparisonView, RunExpectedView } from "../../../shared/api/run-reports";
 import { api } from "../../lib/api";
-import { runKeys } from "./queries";
+import { runKeys, type RunReportView } from "./queries";
 
 /**
  * Server data for the report side of runs (shared/api/run-reports.ts): the report page's drawings,
@@ -13,13 +13,44 @@ export type ReportSource = { kind: "workshop"; workshopId: string; runId: string
 const sourcePath = (s: ReportSource) => (s.kind === "workshop" ? `/workshops/${s.workshopId}/runs/${s.runId}` : `/shared/${encodeURIComponent(s.token)}`);
 const sourceKey = (s: ReportSource) => (s.kind === "workshop" ? runKeys.detail(s.workshopId, s.runId) : runKeys.shared(s.token));
 
-/** Expected timelines, definitions and coverage gaps of every panel of the run (computed once per run). */
-export function useRunExpected(source: ReportSource) {
+/**
+ * Expected timelines, definitions and coverage gaps of every panel of the run (computed once per
+ * run). `enabled` false holds the request back: the report page asks only after its summary and
+ * table are drawn, so this large answer (and the server's first computation of it) never delays them.
+ */
+export function useRunExpected(source: ReportSource, enabled = true) {
   return useQuery({
     queryKey: [...sourceKey(source), "expected"],
     queryFn: () => api.get<RunExpectedView>(`${sourcePath(source)}/expected`),
+    enabled,
     staleTime: Infinity,
     retry: false,
+    structuralSharing: false,
+  });
+}
+
+/*
+ * The report itself, as the report pages read it. Fetched once and never merged with an older copy:
+ * TanStack Query's structural sharing walks every object of the answer to keep unchanged parts,
+ * which for 10,000 mismatches cost more than the JSON parse (issue 6, docs/run-report.md).
+ */
+
+/** A member's view: the JSON export (docs/run-report.md), under the same key as queries.ts' useRunReport. */
+export function useRunReportView(workshopId: string, runId: string) {
+  return useQuery({
+    queryKey: runKeys.report(workshopId, runId),
+    queryFn: () => api.get<RunReportView>(`/workshops/${workshopId}/runs/${runId}/export.json`),
+    structuralSharing: false,
+  });
+}
+
+/** A share link's view: the same report without its maker, and until when the link works. */
+export function useSharedReportView(token: string) {
+  return useQuery({
+    queryKey: runKeys.shared(token),
+    queryFn: () => api.get<RunReportView & { sharedUntil: string }>(`/shared/${encodeURIComponent(token)}`),
+    retry: false,
+    structuralSharing: false,
   });
 }
 
