@@ -18,7 +18,7 @@ import { runPointerSamples } from "./pointer-loop";
 import { SlewFollower } from "./slew";
 import { ChannelColumns, ElementFeed, type ChannelColumn, FRAMES_PER_CHUNK, type BulkListener, type Listener } from "./columns";
 import { actorCell, MemoTables, type CellEvent, type MachineCell } from "./cells";
-import { DiscreteTrackBuilder, LinearTrackBuilder } from "./tracks";
+import { countKey, DiscreteTrackBuilder, flagKey, LinearTrackBuilder, textKey } from "./tracks";
 import type { BreakerShows, ElementTimeline, ExpectedTimelines, ExpectFrame, LampShows } from "./types";
 
 export interface ExpectOptions {
@@ -237,8 +237,8 @@ const OFF: LampShows = { state: "off" };
  * lamp track. `power` is the owning element's power condition.
  */
 function lampPart(out: LampOutput, power: Condition | undefined, build: Build, timeline: ElementTimeline, withMode: boolean) {
-  const lamp = new DiscreteTrackBuilder<LampShows>();
-  const mode = new DiscreteTrackBuilder<string>();
+  const lamp = new DiscreteTrackBuilder<LampShows>(lampKey);
+  const mode = new DiscreteTrackBuilder<string>(textKey);
   timeline.tracks.lamp = lamp.changes;
   if (withMode) timeline.tracks.mode = mode.changes;
   const listeners: [string, Listener][] = [];
@@ -328,7 +328,7 @@ function compileElement(el: Element, build: Build): Runner {
       return readoutRunner(el, build);
     case "breaker": {
       const timeline = newTimeline(el);
-      const track = new DiscreteTrackBuilder<BreakerShows>();
+      const track = new DiscreteTrackBuilder<BreakerShows>(textKey);
       timeline.tracks.breaker = track.changes;
       const actor = cellOf(build, breakerMachine);
       const record = (t: number) => {
@@ -342,8 +342,8 @@ function compileElement(el: Element, build: Build): Runner {
     case "switch":
     case "lever": {
       const timeline = newTimeline(el);
-      const position = new DiscreteTrackBuilder<string>();
-      const mode = new DiscreteTrackBuilder<string>();
+      const position = new DiscreteTrackBuilder<string>(textKey);
+      const mode = new DiscreteTrackBuilder<string>(textKey);
       timeline.tracks.position = position.changes;
       timeline.tracks.mode = mode.changes;
       const resolve = positionResolver(el.position, el.positions);
@@ -387,12 +387,12 @@ function compileElement(el: Element, build: Build): Runner {
     }
     case "button": {
       const timeline = newTimeline(el);
-      const pressed = new DiscreteTrackBuilder<boolean>();
+      const pressed = new DiscreteTrackBuilder<boolean>(flagKey);
       timeline.tracks.pressed = pressed.changes;
       const actor = cellOf(build, buttonMachine);
       const record = (t: number) => {
         const down = actor.snapshot.value === "pressed";
-        pressed.set(t, down, down ? "1" : "0");
+        pressed.set(t, down, flagKey(down));
       };
       const listeners: [string, Listener][] = [watch(el.pressed, (on, t) => (actor.send({ type: "PRESS", on }), record(t)))];
       const backlight = el.backlight ? lampPart(el.backlight, el.power, build, timeline, false) : null;
@@ -407,42 +407,82 @@ function compileElement(el: Element, build: Build): Runner {
     }
     case "encoder": {
       const timeline = newTimeline(el);
-      const detents = new DiscreteTrackBuilder<number>();
+      const detents = new DiscreteTrackBuilder<number>(countKey);
       timeline.tracks.detents = detents.changes;
       // Fields, not closure variables: doubles in fields are not boxed on every write.
       const state = { started: false, previous: 0, turned: 0, count: 0 }; // turned: in the channel's (transformed) units
+      const wrap = el.wrap;
+      const perDetent = el.valuePerDetent;
+      const onValue: Listener = (value, t) => {
+        if (typeof value !== "number") return;
+        const v = applyTransform(el.value.transform, value);
+        if (state.started) {
+          let delta = v - state.previous;
+          if (wrap !== undefined) {
+            delta = ((((delta + wrap / 2) % wrap) + wrap) % wrap) - wrap / 2;
+          }
+          state.turned += delta;
+          const count = Math.round(state.turned / perDetent) + 0;
+          if (count !== state.count) {
+            state.count = count;
+            detents.set(t, count, countKey(count));
+          }
+        }
+        state.previous = v;
+        state.started = true;
+      };
+      // onValue over a run of samples with the state in locals (the generic path boxed every
+      // sample twice: reading it from the column, and passing it to applyTransform).
+      const transform = el.value.transform;
+      const run: BulkListener = (column, from, to) => {
+        const { times, numbers, others } = column;
+        let { started, previous, turned, count: shown } = state;
+        for (let i = from; i < to; i++) {
+          if (others[i] !== undefined) continue;
+          let v = numbers[i];
+          if (transform !== undefined) {
+            // applyTransform: the same arithmetic in the same order.
+            v = v * transform.scale + transform.offset;
+            if (transform.min !== undefined && v < transform.min) v = transform.min;
+            if (transform.max !== undefined && v > transform.max) v = transform.max;
+          }
+          if (started) {
+            let delta = v - previous;
+            if (wrap !== undefined) delta = ((((delta + wrap / 2) % wrap) + wrap) % wrap) - wrap / 2;
+            turned += delta;
+            const count = Math.round(turned / perDetent) + 0;
+            if (count !== shown) {
+              shown = count;
+              detents.set(times[i], count, countKey(count));
+            }
+          }
+          previous = v;
+          started = true;
+        }
+        state.started = started;
+        state.previous = previous;
+        state.turned = turned;
+        state.count = shown;
+      };
       return {
         timeline,
-        listeners: [
-          [
-            el.value.channel,
-            (value, t) => {
-              if (typeof value !== "number") return;
-              const v = applyTransform(el.value.transform, value);
-              if (state.started) {
-                let delta = v - state.previous;
-                if (el.wrap !== undefined) {
-                  delta = ((((delta + el.wrap / 2) % el.wrap) + el.wrap) % el.wrap) - el.wrap / 2;
-                }
-                state.turned += delta;
-                const count = Math.round(state.turned / el.valuePerDetent) + 0;
-                if (count !== state.count) {
-                  state.count = count;
-                  detents.set(t, count, String(count));
-                }
-              }
-              state.previous = v;
-              state.started = true;
-            },
-          ],
-        ],
-        start: (t) => detents.set(t, 0, "0"),
+        listeners: [[el.value.channel, onValue]],
+        bulk: { listener: onValue, run },
+        start: (t) => detents.set(t, 0, countKey(0)),
         finish: () => {},
         stop: () => {},
       };
     }
   }
 }
+
+/**
+ * Texts kept per readout, by the low bits of their digits key: a thousand covers a gauge's whole
+ * range at one decimal, so a value sweeping back and forth formats each text once (with 64 slots
+ * an hour at 60 Hz formatted about 366,000 texts, each a string kept by the track, and the garbage
+ * collector's work grows with them).
+ */
+const TEXT_CACHE_SLOTS = 1024;
 
 /**
  * A readout's per-sample state and work, in fields and methods (see PointerState for why). The text
@@ -456,35 +496,65 @@ class ReadoutState {
   hasKey = false;
   inT = 0;
   inValue = 0;
-  private readonly cacheKeys = new Float64Array(64).fill(Number.NaN);
-  private readonly cacheTexts: string[] = new Array<string>(64).fill("");
+  private readonly cacheKeys = new Float64Array(TEXT_CACHE_SLOTS).fill(Number.NaN);
+  private readonly cacheTexts: string[] = new Array<string>(TEXT_CACHE_SLOTS).fill("");
   private readonly factor: number;
+  // The transform's parts as numbers (applyTransform, inlined: a double passed to a call the
+  // compiler does not inline is boxed, and this ran once per readout per sample).
+  private readonly hasTransform: boolean;
+  private readonly scale: number;
+  private readonly offset: number;
+  private readonly hasMin: boolean;
+  private readonly min: number;
+  private readonly hasMax: boolean;
+  private readonly max: number;
 
   constructor(
     private readonly format: ReadoutFormat,
-    private readonly transform: Transform | undefined,
+    transform: Transform | undefined,
     private readonly record: (t: number) => void,
   ) {
     this.factor = 10 ** format.decimals;
+    this.hasTransform = transform !== undefined;
+    this.scale = transform?.scale ?? 1;
+    this.offset = transform?.offset ?? 0;
+    this.hasMin = transform?.min !== undefined;
+    this.min = transform?.min ?? 0;
+    this.hasMax = transform?.max !== undefined;
+    this.max = transform?.max ?? 0;
   }
 
-  /** One numeric sample. */
+  /** One numeric sample, in inT and inValue. */
   numberIn(): void {
-    const value = applyTransform(this.transform, this.inValue);
+    let value = this.inValue;
+    if (this.hasTransform) {
+      // applyTransform: the same arithmetic in the same order.
+      value = value * this.scale + this.offset;
+      if (this.hasMin && value < this.min) value = this.min;
+      if (this.hasMax && value > this.max) value = this.max;
+    }
+    this.inValue = value;
     if (this.format.map) {
       this.formatted = formatReadout(this.format, value);
-    } else {
-      const key = (value < 0 ? -1 : 1) * Math.round(Math.abs(value) * this.factor);
-      if (key === this.lastKey && this.hasKey) return;
-      this.lastKey = key;
-      this.hasKey = true;
-      const slot = key & 63;
-      if (this.cacheKeys[slot] === key) this.formatted = this.cacheTexts[slot];
-      else {
-        this.formatted = formatReadout(this.format, value);
-        this.cacheKeys[slot] = key;
-        this.cacheTexts[slot] = this.formatted;
-      }
+      this.record(this.inT);
+      return;
+    }
+    const key = (value < 0 ? -1 : 1) * Math.round(Math.abs(value) * this.factor);
+    if (key === this.lastKey && this.hasKey) return;
+    this.lastKey = key;
+    this.hasKey = true;
+    this.showKey();
+  }
+
+  /** Shows the transformed value in inValue, whose digits key is lastKey. */
+  private showKey(): void {
+    const key = this.lastKey;
+    const slot = key & (TEXT_CACHE_SLOTS - 1);
+    if (this.cacheKeys[slot] === key) this.formatted = this.cacheTexts[slot];
+    else {
+      this.formatted = formatReadout(this.format, this.inValue);
+      this.cacheKeys[slot] = key;
+      this.cacheTexts[slot] = this.formatted;
     }
     this.record(this.inT);
   }
@@ -496,24 +566,60 @@ class ReadoutState {
     this.record(t);
   }
 
+  /**
+   * numberIn() and other() over a run of samples, with the per-sample part (transform, digits key,
+   * comparison) in local variables: as fields, every sample's double was boxed (42 MB an hour for
+   * 12 readouts). Fields are written only when the text may change.
+   */
   run(column: ChannelColumn, from: number, to: number): void {
+    if (this.format.map) {
+      for (let i = from; i < to; i++) this.sampleAt(column, i);
+      return;
+    }
     const { times, numbers, others } = column;
+    const { hasTransform, scale, offset, hasMin, min, hasMax, max, factor } = this;
+    let lastKey = this.lastKey;
+    let hasKey = this.hasKey;
     for (let i = from; i < to; i++) {
       const other = others[i];
-      if (other !== undefined) this.other(other, times[i]);
-      else {
-        this.inT = times[i];
-        this.inValue = numbers[i];
-        this.numberIn();
+      if (other !== undefined) {
+        this.other(other, times[i]);
+        hasKey = false;
+        continue;
       }
+      let value = numbers[i];
+      if (hasTransform) {
+        value = value * scale + offset;
+        if (hasMin && value < min) value = min;
+        if (hasMax && value > max) value = max;
+      }
+      const key = (value < 0 ? -1 : 1) * Math.round(Math.abs(value) * factor);
+      if (key === lastKey && hasKey) continue;
+      lastKey = key;
+      hasKey = true;
+      this.lastKey = key;
+      this.hasKey = true;
+      this.inT = times[i];
+      this.inValue = value;
+      this.showKey();
+    }
+  }
+
+  private sampleAt(column: ChannelColumn, i: number): void {
+    const other = column.others[i];
+    if (other !== undefined) this.other(other, column.times[i]);
+    else {
+      this.inT = column.times[i];
+      this.inValue = column.numbers[i];
+      this.numberIn();
     }
   }
 }
 
 function readoutRunner(el: ReadoutElement, build: Build): Runner {
   const timeline = newTimeline(el);
-  const text = new DiscreteTrackBuilder<string>();
-  const mode = new DiscreteTrackBuilder<string>();
+  const text = new DiscreteTrackBuilder<string>(textKey);
+  const mode = new DiscreteTrackBuilder<string>(textKey);
   timeline.tracks.text = text.changes;
   timeline.tracks.mode = mode.changes;
   const actor = cellOf(build, readoutMachine, { alwaysPowered: el.power === undefined });
@@ -617,8 +723,8 @@ class PointerState {
 
 function pointerRunner(el: PointerElement, build: Build): Runner {
   const timeline = newTimeline(el);
-  const flag = new DiscreteTrackBuilder<boolean>();
-  const mode = new DiscreteTrackBuilder<string>();
+  const flag = new DiscreteTrackBuilder<boolean>(flagKey);
+  const mode = new DiscreteTrackBuilder<string>(textKey);
   timeline.tracks.flag = flag.changes;
   timeline.tracks.mode = mode.changes;
   const wrap = el.scale.kind === "full-circle";
@@ -640,7 +746,7 @@ function pointerRunner(el: PointerElement, build: Build): Runner {
     const name = actor.snapshot.value as string;
     mode.set(t, name, name);
     const showsFlag = name === "parked" && el.offFlag;
-    flag.set(t, showsFlag, showsFlag ? "1" : "0");
+    flag.set(t, showsFlag, flagKey(showsFlag));
   };
 
   const onValue: Listener = (value, t) => {

@@ -75,6 +75,11 @@ export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, fr
   let hasPending = line.hasPending;
   let slopeMin = line.slopeMin;
   let slopeMax = line.slopeMax;
+  // LinearTrackBuilder.append inlined: a call the compiler does not inline boxes both doubles
+  // (about 30 MB an hour for 40 pointers), so kept points are stored here, room made per sample.
+  let keptTimes = line.times;
+  let keptAngles = line.angles;
+  let kept = line.count;
 
   for (let i = from; i < to; i++) {
     if (others[i] !== undefined) continue;
@@ -180,12 +185,20 @@ export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, fr
     }
     followerTarget = goal;
 
-    // LinearTrackBuilder.pushIn for each point; "keep" is append plus a new anchor.
+    // LinearTrackBuilder.pushIn for each point; "keep" is append plus a new anchor. A point keeps
+    // at most two (a corner and a jump's far end).
+    if (points > 0 && kept + 2 * points > keptTimes.length) {
+      line.count = kept;
+      line.ensureRoom(2 * points);
+      keptTimes = line.times;
+      keptAngles = line.angles;
+    }
     for (let j = 0; j < points; j++) {
       const pt = pointTimes[j];
       const pa = pointAngles[j];
       if (!hasAnchor) {
-        line.append(pt, pa);
+        keptTimes[kept] = pt;
+        keptAngles[kept++] = pa;
         anchorT = pt;
         anchorA = pa;
         hasAnchor = true;
@@ -197,7 +210,8 @@ export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, fr
       if (!hasPending) {
         if (pt === anchorT) {
           if (pa !== anchorA) {
-            line.append(pt, pa);
+            keptTimes[kept] = pt;
+            keptAngles[kept++] = pa;
             anchorT = pt;
             anchorA = pa;
             slopeMin = -Infinity;
@@ -212,8 +226,10 @@ export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, fr
       }
       if (pt === pendingT) {
         if (pa === pendingA) continue;
-        line.append(pendingT, pendingA);
-        line.append(pt, pa);
+        keptTimes[kept] = pendingT;
+        keptAngles[kept++] = pendingA;
+        keptTimes[kept] = pt;
+        keptAngles[kept++] = pa;
         anchorT = pt;
         anchorA = pa;
         hasPending = false;
@@ -234,7 +250,8 @@ export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, fr
         pendingA = pa;
         continue;
       }
-      line.append(pendingT, pendingA);
+      keptTimes[kept] = pendingT;
+      keptAngles[kept++] = pendingA;
       anchorT = pendingT;
       anchorA = pendingA;
       slopeMin = -Infinity;
@@ -251,6 +268,7 @@ export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, fr
   follower.time = followerTime;
   follower.position = position;
   follower.target = followerTarget;
+  line.count = kept;
   line.anchorT = anchorT;
   line.anchorA = anchorA;
   line.hasAnchor = hasAnchor;

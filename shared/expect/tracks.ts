@@ -3,27 +3,74 @@ import type { Change } from "./types";
 /**
  * Builds a piecewise constant track. Several changes at one instant keep only the last, and a
  * change back to the value already showing is dropped, so the track holds real changes only.
+ *
+ * Changes are compared by a key (`keyOf(shows)`, passed to set() by the caller, who often has it
+ * already). Only the last change's key is kept: the one before it is needed only when a change at
+ * the same instant replaces the last one, and is made again from that change then. A parallel
+ * array of every key cost a push per change and a second array as long as the track.
  */
 export class DiscreteTrackBuilder<V> {
   readonly changes: Change<V>[] = [];
-  private readonly keys: string[] = [];
+  private last: string | undefined = undefined;
 
+  constructor(private readonly keyOf: (shows: V) => string) {}
+
+  /** `key` must be keyOf(shows). */
   set(t: number, shows: V, key: string): void {
-    const n = this.keys.length;
-    if (n > 0 && this.keys[n - 1] === key) return;
-    if (n > 0 && this.changes[n - 1].t === t) {
-      this.changes.pop();
-      this.keys.pop();
-      if (n > 1 && this.keys[n - 2] === key) return;
+    const changes = this.changes;
+    const n = changes.length;
+    if (n > 0 && this.last === key) return;
+    if (n > 0 && changes[n - 1].t === t) {
+      changes.pop();
+      this.last = n > 1 ? this.keyOf(changes[n - 2].shows) : undefined;
+      if (this.last === key) return;
     }
-    this.changes.push({ t, shows });
-    this.keys.push(key);
+    changes.push({ t, shows });
+    this.last = key;
   }
 
   get lastKey(): string | undefined {
-    return this.keys[this.keys.length - 1];
+    return this.last;
   }
 }
+
+/** Keys of discrete tracks (DiscreteTrackBuilder): a text is its own, a flag "1" or "0". */
+export const textKey = (text: string): string => text;
+export const flagKey = (on: boolean): string => (on ? "1" : "0");
+export const countKey = (count: number): string => String(count);
+
+const EMPTY = new Float64Array(0);
+
+/**
+ * Spare buffers for LinearTrackBuilder, kept between tracks and between runs: a one-hour track
+ * grows its two buffers to half a megabyte each, and fresh large buffers cost page faults and
+ * external memory the garbage collector counts toward its next full collection (which marks the
+ * whole heap, recordings included). Bounded, so an idle server keeps at most SPARE_BYTES.
+ */
+const SPARE_BYTES = 32 * 1024 * 1024;
+const scratch = {
+  spare: [] as Float64Array[],
+  bytes: 0,
+  /** A buffer of at least `size` numbers (contents undefined: callers write before they read). */
+  take(size: number): Float64Array {
+    const spare = this.spare;
+    for (let i = spare.length - 1; i >= 0; i--) {
+      const buffer = spare[i];
+      if (buffer.length >= size) {
+        spare[i] = spare[spare.length - 1];
+        spare.pop();
+        this.bytes -= buffer.byteLength;
+        return buffer;
+      }
+    }
+    return new Float64Array(size);
+  },
+  give(buffer: Float64Array): void {
+    if (buffer.length === 0 || this.bytes + buffer.byteLength > SPARE_BYTES) return;
+    this.spare.push(buffer);
+    this.bytes += buffer.byteLength;
+  },
+};
 
 /**
  * Builds a piecewise linear track with swinging-door compression: a point is dropped when the
@@ -41,9 +88,11 @@ export class LinearTrackBuilder {
   /** The kept points, made by finish(). */
   t: number[] = [];
   angle: number[] = [];
-  private times = new Float64Array(1024);
-  private angles = new Float64Array(1024);
-  private count = 0;
+  // Kept points so far, written directly by the fused pointer loop too (pointer-loop.ts), which
+  // calls ensureRoom() first.
+  times = scratch.take(1024);
+  angles = scratch.take(1024);
+  count = 0;
   /** Inputs of pushIn(). */
   inT = 0;
   inA = 0;
@@ -57,6 +106,7 @@ export class LinearTrackBuilder {
   hasPending = false;
   slopeMin = -Infinity;
   slopeMax = Infinity;
+  private finished = false;
 
   constructor(readonly epsilon: number) {}
 
@@ -121,7 +171,10 @@ export class LinearTrackBuilder {
     this.hasPending = true;
   }
 
+  /** Makes `t` and `angle` and hands the buffers back; later calls change nothing. */
   finish(): void {
+    if (this.finished) return;
+    this.finished = true;
     if (this.hasPending) this.keep(this.pendingT, this.pendingA);
     const n = this.count;
     // Sized once, then filled in order (about three times faster than growing by push).
@@ -133,6 +186,10 @@ export class LinearTrackBuilder {
     }
     this.t = t;
     this.angle = angle;
+    scratch.give(this.times);
+    scratch.give(this.angles);
+    this.times = this.angles = EMPTY;
+    this.count = 0;
   }
 
   /** Small enough to be inlined into pushIn, so its doubles stay unboxed. */
@@ -146,12 +203,21 @@ export class LinearTrackBuilder {
     this.slopeMax = Infinity;
   }
 
-  private grow(): void {
-    const times = new Float64Array(this.count * 2);
-    times.set(this.times);
+  /** Makes room for `more` points after the kept ones (doubling, so growth is amortised). */
+  ensureRoom(more: number): void {
+    if (this.count + more > this.times.length) this.grow(this.count + more);
+  }
+
+  private grow(atLeast = this.count + 1): void {
+    let size = Math.max(1024, this.times.length * 2);
+    while (size < atLeast) size *= 2;
+    const times = scratch.take(size);
+    times.set(this.times.subarray(0, this.count));
+    scratch.give(this.times);
     this.times = times;
-    const angles = new Float64Array(this.count * 2);
-    angles.set(this.angles);
+    const angles = scratch.take(size);
+    angles.set(this.angles.subarray(0, this.count));
+    scratch.give(this.angles);
     this.angles = angles;
   }
 }

@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { expectedAt, expectTimelines, type ExpectFrame } from "../../../shared/expect";
+import { applyTransform, formatReadout } from "../../../shared/elements/bindings";
+import { expectedAt, expectTimelines, expectTimelinesStepwise, type ExpectFrame } from "../../../shared/expect";
 import { linearPointer, panelOf } from "./helpers";
 
 describe("slew-limited pointer, hand-computed", () => {
@@ -206,6 +207,34 @@ describe("readouts, breakers, switches, levers, buttons, encoders in the engine"
       { t: 200, shows: "" },
       { t: 400, shows: "1020" },
     ]);
+  });
+
+  it("shows a readout's transformed and clamped value, formatted as formatReadout does, in both engines", () => {
+    const element = { kind: "readout" as const, id: "oil", label: "oil", value: { channel: "psi", transform: { scale: 0.1, offset: 2, min: 0, max: 9 } }, format: { width: 3, decimals: 1 } };
+    const values = [0, 12.3, 12.34, 40, 70, 95, 120, -50, 71.04];
+    const frames: ExpectFrame[] = values.map((psi, i) => ({ t: i * 20, v: { psi } }));
+    // Hand-computed: psi * 0.1 + 2, clamped to [0, 9], one decimal, width 3 (70 gives 9.0, 120 is
+    // clamped to 9.0, so no change there; -50 gives -3, clamped to 0).
+    const expected = [
+      { t: 0, shows: "2.0" },
+      { t: 20, shows: "3.2" },
+      { t: 60, shows: "6.0" },
+      { t: 80, shows: "9.0" },
+      { t: 140, shows: "0.0" },
+      { t: 160, shows: "9.0" },
+    ];
+    const fast = expectTimelines(panelOf(element), frames).elements[0];
+    const stepwise = expectTimelinesStepwise(panelOf(element), frames).elements[0];
+    expect(fast.tracks.text).toEqual(expected);
+    expect(stepwise.tracks.text).toEqual(expected);
+    // And text for text with the shared formatting of applyTransform's value (the parsed element:
+    // the schema fills in the format's defaults).
+    const parsed = panelOf(element).elements[0];
+    if (parsed.kind !== "readout") throw new Error("a readout was parsed as something else");
+    for (const change of expected) {
+      const psi = values[change.t / 20];
+      expect(formatReadout(parsed.format, applyTransform(parsed.value.transform, psi))).toBe(change.shows);
+    }
   });
 
   it("keeps a breaker tripped until a pull and a push", () => {

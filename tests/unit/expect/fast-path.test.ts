@@ -20,6 +20,8 @@ const mixedElements: ElementInput[] = [
   { kind: "pointer", id: "p-clamp", label: "clamped transform, slow", value: { channel: "b", transform: { scale: 0.5, offset: 10, min: 0, max: 60 } }, maxSlewDegPerSec: 30, scale: { kind: "sweep", points: [{ value: 0, angle: 10 }, { value: 30, angle: 100 }, { value: 60, angle: 250 }] } },
   { kind: "pointer", id: "p-jump", label: "no slew", value: { channel: "b" }, scale: { kind: "sweep", points: [{ value: 0, angle: 0 }, { value: 100, angle: 270 }] } },
   { kind: "readout", id: "r1", label: "readout", value: { channel: "a" }, format: { width: 5, decimals: 1 }, power: { channel: "bus" }, test: { channel: "test" } },
+  { kind: "readout", id: "r3", label: "clamped transform", value: { channel: "b", transform: { scale: 0.5, offset: 10, min: 0, max: 60 } }, format: { width: 4, decimals: 0 } },
+  { kind: "readout", id: "r4", label: "mapped, transformed", value: { channel: "a", transform: { scale: -2, offset: 1 } }, format: { decimals: 2, map: { x: "XX" } } },
   { kind: "readout", id: "r2", label: "mapped", value: { channel: "mode" }, format: { map: { x: "XX" } }, blankWhen: { channel: "d1" } },
   { kind: "lamp", id: "l1", label: "lamp", drive: { mode: "condition", on: { channel: "d1" } }, flash: { periodMs: 400, when: { channel: "d2" } }, power: { channel: "bus" }, test: { channel: "test" }, dimmer: { channel: "a", transform: { scale: 0.01 } } },
   { kind: "lamp", id: "l2", label: "latch", drive: { mode: "latch", cautions: [{ channel: "d1" }, { channel: "d2" }, { channel: "a", op: "gt", value: 70 }], acknowledge: { channel: "d3" } }, flash: { periodMs: 500 }, power: { channel: "bus" } },
@@ -28,6 +30,7 @@ const mixedElements: ElementInput[] = [
   { kind: "switch", id: "sw2", label: "plain", positions: ["off", "on"], position: { channel: "d1" } },
   { kind: "lever", id: "lv", label: "lever", positions: ["up", "down"], position: { channel: "d2" }, lock: { channel: "d3" } },
   { kind: "button", id: "bt", label: "button", pressed: { channel: "d3" }, backlight: { drive: { mode: "condition", on: { channel: "bus" } }, test: { channel: "test" } }, power: { channel: "bus" } },
+  { kind: "encoder", id: "enc2", label: "encoder, clamped transform", detentsPerTurn: 20, value: { channel: "a", transform: { scale: 0.3, offset: -2, min: 0, max: 25 } }, valuePerDetent: 0.25 },
   { kind: "encoder", id: "enc", label: "encoder", detentsPerTurn: 24, value: { channel: "b" }, valuePerDetent: 0.5, wrap: 100 },
 ] as ElementInput[];
 
