@@ -213,7 +213,7 @@ export function runsRouter(services: Services) {
       return;
     }
     const session = await runs.ensureSession(row);
-    try {
+    await actOn(res, session, workshopId, runId, async () => {
       switch (body.action) {
         case "play":
           session.play({ override: body.override, by: actor.userId });
@@ -237,6 +237,17 @@ export function runsRouter(services: Services) {
           await session.finish("stopped");
           break;
       }
+    });
+  });
+
+  /**
+   * Runs one action on a held run, lets the session settle (its writes), then answers the run
+   * as the console reads it; a RunConflict answers 409 with its own code, other refusals go to
+   * the error handler. The control and checks routes share it.
+   */
+  async function actOn(res: import("express").Response, session: RunSession, workshopId: string, runId: string, act: () => void | Promise<void>) {
+    try {
+      await act();
     } catch (error) {
       if (error instanceof RunConflict) {
         await session.settle();
@@ -247,7 +258,7 @@ export function runsRouter(services: Services) {
     }
     await session.settle();
     res.json(await consoleDetailOf(await findRun(workshopId, runId)));
-  });
+  }
 
   /**
    * 409 with the conflict's own code. `setup_mismatch` lists every element that differs, as
@@ -270,7 +281,7 @@ export function runsRouter(services: Services) {
     authorize(runPolicy.control(await member(req, workshopId)), forbidden);
     const body = parseBody(req, runChecksBody);
     const session = await sessionFor(await findRun(workshopId, runId));
-    try {
+    await actOn(res, session, workshopId, runId, () => {
       switch (body.action) {
         case "walk_start":
           session.startWalk(body.timeoutSec);
@@ -288,16 +299,7 @@ export function runsRouter(services: Services) {
           session.answer(body.checkpointId, body.answer);
           break;
       }
-    } catch (error) {
-      if (error instanceof RunConflict) {
-        await session.settle();
-        sendConflict(res, error);
-        return;
-      }
-      refusalOf(error);
-    }
-    await session.settle();
-    res.json(await consoleDetailOf(await findRun(workshopId, runId)));
+    });
   });
 
   /** A virtual link's injected faults, changed while the run is set up or plays; the console's virtual panel applies them. */

@@ -76,6 +76,8 @@ export class VirtualPanelDevice {
   private readonly outgoing: Uint8Array[] = [];
   private sequence = 0x80;
   private lastPeriodic = -Infinity;
+  /** Needles (slewing, parking) and spring-loaded switches change between updates; nothing else does. */
+  private readonly changesWithTime: boolean;
 
   constructor(options: VirtualPanelOptions) {
     this.panel = options.panel;
@@ -85,6 +87,7 @@ export class VirtualPanelDevice {
     this.currentSpeed = options.speed ?? 1;
     this.clock = options.clock ?? (() => performance.now());
     this.address = options.address ?? 0;
+    this.changesWithTime = options.panel.elements.some((e) => !e.placeholder && (e.kind === "pointer" || (e.kind === "switch" && e.springReturn !== undefined)));
     this.core = new EmulatedDeviceCore({
       address: this.address,
       deviceId: options.deviceId ?? "0000000000e0e0e0",
@@ -312,7 +315,7 @@ export class VirtualPanelDevice {
     const timeBased = this.currentFaults.some((f) => f.kind === "added_lag" || f.kind === "pointer_slow" || f.kind === "missed_steps");
     // Needles keep moving between updates (slew limits, parking): a board reports them as they go.
     const now = this.clock();
-    if (!timeBased && this.held.size === 0 && now - this.lastPeriodic < MOVING_REPORT_MS) return null;
+    if (!timeBased && this.held.size === 0 && (!this.changesWithTime || now - this.lastPeriodic < MOVING_REPORT_MS)) return null;
     this.lastPeriodic = now;
     const changed = this.entriesAt(this.deviceTime()).filter((e) => {
       const key = JSON.stringify(e);

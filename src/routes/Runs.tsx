@@ -1,5 +1,6 @@
 import { createColumnHelper, flexRender, getCoreRowModel, getSortedRowModel, useReactTable, type SortingState } from "@tanstack/react-table";
 import { useMemo, useState } from "react";
+import { SortableHead } from "../components/table";
 import { Link, useOutletContext } from "react-router";
 import type { RunSummary } from "../../shared/api/runs";
 import type { WorkshopDetail } from "../../shared/api/workshops";
@@ -74,29 +75,7 @@ export function Runs() {
       {runs.data && runs.data.length > 0 && (
         <div className="overflow-x-auto rounded-lg border border-rule bg-card">
           <table className="w-full text-left text-sm" aria-label="Runs">
-            <thead className="border-b border-rule bg-paper/60 text-ink-soft">
-              {table.getHeaderGroups().map((g) => (
-                <tr key={g.id}>
-                  {g.headers.map((h) => {
-                    const sorted = h.column.getIsSorted();
-                    return (
-                      <th key={h.id} scope="col" aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined} className="px-3 py-2 font-semibold whitespace-nowrap">
-                        {h.column.getCanSort() ? (
-                          <button type="button" onClick={h.column.getToggleSortingHandler()} className="inline-flex items-center gap-1 hover:text-ink">
-                            {flexRender(h.column.columnDef.header, h.getContext())}
-                            <span aria-hidden="true" className="font-mono text-[10px]">
-                              {sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "△▽"}
-                            </span>
-                          </button>
-                        ) : (
-                          flexRender(h.column.columnDef.header, h.getContext())
-                        )}
-                      </th>
-                    );
-                  })}
-                </tr>
-              ))}
-            </thead>
+            <SortableHead table={table} />
             <tbody>
               {table.getRowModel().rows.map((row) => (
                 <tr key={row.id} className="border-b border-rule/60 last:border-0 hover:bg-paper/50">

@@ -10,6 +10,7 @@ import {
   type SortingState,
 } from "@tanstack/react-table";
 import { useMemo, useState, type FormEvent } from "react";
+import { SortableHead } from "../../components/table";
 import { Link } from "react-router";
 import type { ImportJobView, RecordingSummary } from "../../../shared/api/recordings";
 import { Button, ErrorNote } from "../../components/ui";
@@ -227,35 +228,7 @@ export function RecordingsTable({ workshopId, recordings, imports, canWrite }: P
       <ErrorNote error={rename.error ?? remove.error} />
       <div className="overflow-x-auto rounded-lg border border-rule bg-card">
         <table className="w-full text-left text-sm" aria-label="Recordings">
-          <thead className="border-b border-rule bg-paper/60 text-ink-soft">
-            {table.getHeaderGroups().map((group) => (
-              <tr key={group.id}>
-                {group.headers.map((header) => {
-                  const sorted = header.column.getIsSorted();
-                  const numeric = (header.column.columnDef.meta as { numeric?: boolean } | undefined)?.numeric;
-                  return (
-                    <th
-                      key={header.id}
-                      scope="col"
-                      aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined}
-                      className={`px-3 py-2 font-semibold whitespace-nowrap ${numeric ? "text-right" : ""}`}
-                    >
-                      {header.column.getCanSort() ? (
-                        <button type="button" onClick={header.column.getToggleSortingHandler()} className="inline-flex items-center gap-1 hover:text-ink">
-                          {flexRender(header.column.columnDef.header, header.getContext())}
-                          <span aria-hidden="true" className="font-mono text-[10px]">
-                            {sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "△▽"}
-                          </span>
-                        </button>
-                      ) : (
-                        flexRender(header.column.columnDef.header, header.getContext())
-                      )}
-                    </th>
-                  );
-                })}
-              </tr>
-            ))}
-          </thead>
+          <SortableHead table={table} />
           <tbody>
             {rows.map((row) => (
               <tr key={row.id} className="border-b border-rule/60 last:border-0 hover:bg-paper/50">

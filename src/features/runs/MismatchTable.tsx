@@ -7,6 +7,7 @@ import {
   type SortingState,
 } from "@tanstack/react-table";
 import { memo, useMemo, useState } from "react";
+import { SortableHead } from "../../components/table";
 import { MISMATCH_KINDS } from "../../../shared/compare/types";
 import type { LiveMismatch } from "./live";
 import { clock, Empty, MISMATCH_WORDS } from "./words";
@@ -124,25 +125,7 @@ export const MismatchTable = memo(function MismatchTable({
       </div>
       <div className="overflow-x-auto rounded-lg border border-rule bg-card">
         <table className="w-full text-left text-sm" aria-label="Mismatches">
-          <thead className="border-b border-rule bg-paper/60 text-ink-soft">
-            {table.getHeaderGroups().map((g) => (
-              <tr key={g.id}>
-                {g.headers.map((h) => {
-                  const sorted = h.column.getIsSorted();
-                  return (
-                    <th key={h.id} scope="col" aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined} className="px-3 py-2 font-semibold whitespace-nowrap">
-                      <button type="button" onClick={h.column.getToggleSortingHandler()} className="inline-flex items-center gap-1 hover:text-ink">
-                        {flexRender(h.column.columnDef.header, h.getContext())}
-                        <span aria-hidden="true" className="font-mono text-[10px]">
-                          {sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "△▽"}
-                        </span>
-                      </button>
-                    </th>
-                  );
-                })}
-              </tr>
-            ))}
-          </thead>
+          <SortableHead table={table} />
           <tbody>
             {rows.map((row) => (
               <tr
