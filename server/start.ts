@@ -27,6 +27,14 @@ const version = (JSON.parse(readFileSync(new URL("../package.json", import.meta.
 export async function startServer(env: ServerEnv, extraOrigins: string[] = []): Promise<RunningServer> {
   const db = connectDatabase(env.DATABASE_URL);
   const httpServer = http.createServer();
+  // Every socket, so that close() can end those a WebSocket took over (panels, watchers,
+  // captures): they are no longer HTTP connections, and a board that never hangs up would
+  // otherwise hold the server open.
+  const sockets = new Set<import("node:net").Socket>();
+  httpServer.on("connection", (socket) => {
+    sockets.add(socket);
+    socket.once("close", () => sockets.delete(socket));
+  });
   await new Promise<void>((resolve, reject) => {
     httpServer.once("error", reject);
     httpServer.listen(env.PORT, env.HOST, () => resolve());
@@ -108,11 +116,13 @@ export async function startServer(env: ServerEnv, extraOrigins: string[] = []): 
     fakeSmtp,
     async close() {
       httpServer.closeAllConnections();
-      await new Promise<void>((resolve) => httpServer.close(() => resolve()));
+      const closed = new Promise<void>((resolve) => httpServer.close(() => resolve()));
       // Captures save what they caught and imports finish their transaction before the pool closes.
       await captures.closeAll();
       // Running runs keep what arrived and are marked interrupted; play resumes them.
       await runs.closeAll();
+      for (const socket of sockets) socket.destroy();
+      await closed;
       await jobs.stop();
       await fakeSmtp?.close();
       mailer.close();
