@@ -526,6 +526,12 @@ export class RunSession {
     if (this.state !== "playing" || this.closing) return;
     const c = this.checks.checkpoints.find((x) => x.id === id);
     if (!c || c.answer !== null) return this.armCheckpoint();
+    // Timers may fire a millisecond early (they round); the question belongs at its instant, never before.
+    if (this.recordingNow() < c.atMs) {
+      const wait = Math.max(1, Math.ceil(this.player.clock.wallDelayUntil(c.atMs)));
+      this.checkpointTimer = setTimeout(() => this.reachCheckpoint(id), wait);
+      return;
+    }
     this.pause();
     this.pausedForCheckpoint = true;
     this.checks.asking = c.id;
