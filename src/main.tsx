@@ -1,5 +1,5 @@
 import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
-import { StrictMode, Suspense, lazy, type ReactNode } from "react";
+import { StrictMode } from "react";
 import { createRoot } from "react-dom/client";
 import { Navigate, RouterProvider, createBrowserRouter } from "react-router";
 import { AppShell } from "./components/AppShell";
@@ -15,33 +15,50 @@ import { WorkshopHome } from "./routes/WorkshopHome";
 import { WorkshopLayout } from "./routes/WorkshopLayout";
 import { Workshops } from "./routes/Workshops";
 import { Loading } from "./components/ui";
+import { meQuery, workshopQuery } from "./lib/queries";
+import { runReportQuery, sharedReportQuery } from "./features/runs/report-queries";
 import "./styles.css";
 
+// Screens load on first visit, through the router's `lazy` (the module is fetched while the router
+// navigates, then the screen renders once). React.lazy under a Suspense fallback was measured
+// slower: React holds a revealed screen until 300 ms after its fallback appeared, on every first
+// visit (docs/run-report.md, "Speed").
 // Recordings screens (tables, the plot, the scenario generator) load on first visit only.
-const Recordings = lazy(() => import("./routes/Recordings").then((m) => ({ default: m.Recordings })));
-const RecordingPage = lazy(() => import("./routes/RecordingPage").then((m) => ({ default: m.RecordingPage })));
-const ScenarioEditor = lazy(() => import("./routes/ScenarioEditor").then((m) => ({ default: m.ScenarioEditor })));
-const Airframes = lazy(() => import("./routes/Airframes").then((m) => ({ default: m.Airframes })));
-const AirframeChannels = lazy(() => import("./routes/AirframeChannels").then((m) => ({ default: m.AirframeChannels })));
-const CaptureStart = lazy(() => import("./routes/Capture").then((m) => ({ default: m.CaptureStart })));
-const CaptureLive = lazy(() => import("./routes/Capture").then((m) => ({ default: m.CaptureLive })));
+const loadRecordings = () => import("./routes/Recordings").then((m) => ({ Component: m.Recordings }));
+const loadRecordingPage = () => import("./routes/RecordingPage").then((m) => ({ Component: m.RecordingPage }));
+const loadScenarioEditor = () => import("./routes/ScenarioEditor").then((m) => ({ Component: m.ScenarioEditor }));
+const loadAirframes = () => import("./routes/Airframes").then((m) => ({ Component: m.Airframes }));
+const loadAirframeChannels = () => import("./routes/AirframeChannels").then((m) => ({ Component: m.AirframeChannels }));
+const loadCaptureStart = () => import("./routes/Capture").then((m) => ({ Component: m.CaptureStart }));
+const loadCaptureLive = () => import("./routes/Capture").then((m) => ({ Component: m.CaptureLive }));
 // Panel screens (issue 4): the panels table, one panel's page, a pointer's scale page.
-const Panels = lazy(() => import("./routes/Panels").then((m) => ({ default: m.Panels })));
-const PanelPage = lazy(() => import("./routes/PanelPage").then((m) => ({ default: m.PanelPage })));
-const PanelScale = lazy(() => import("./routes/PanelScale").then((m) => ({ default: m.PanelScale })));
+const loadPanels = () => import("./routes/Panels").then((m) => ({ Component: m.Panels }));
+const loadPanelPage = () => import("./routes/PanelPage").then((m) => ({ Component: m.PanelPage }));
+const loadPanelScale = () => import("./routes/PanelScale").then((m) => ({ Component: m.PanelScale }));
 // Run screens (issues 5 and 6): the runs table, setting one up, the console, the report, a shared report.
-const Runs = lazy(() => import("./routes/Runs").then((m) => ({ default: m.Runs })));
-const RunSetup = lazy(() => import("./routes/RunSetup").then((m) => ({ default: m.RunSetup })));
-const RunConsole = lazy(() => import("./routes/RunConsole").then((m) => ({ default: m.RunConsole })));
-const VirtualPanelWindow = lazy(() => import("./routes/VirtualPanelWindow").then((m) => ({ default: m.VirtualPanelWindow })));
-const RunReport = lazy(() => import("./routes/RunReport").then((m) => ({ default: m.RunReport })));
-const RunCompare = lazy(() => import("./routes/RunCompare").then((m) => ({ default: m.RunCompare })));
-const SharedReport = lazy(() => import("./routes/SharedReport").then((m) => ({ default: m.SharedReport })));
-const later = (screen: ReactNode) => <Suspense fallback={<Loading what="Opening" />}>{screen}</Suspense>;
+const loadRuns = () => import("./routes/Runs").then((m) => ({ Component: m.Runs }));
+const loadRunSetup = () => import("./routes/RunSetup").then((m) => ({ Component: m.RunSetup }));
+const loadRunConsole = () => import("./routes/RunConsole").then((m) => ({ Component: m.RunConsole }));
+const loadVirtualPanelWindow = () => import("./routes/VirtualPanelWindow").then((m) => ({ Component: m.VirtualPanelWindow }));
+const loadRunReport = () => import("./routes/RunReport").then((m) => ({ Component: m.RunReport }));
+const loadRunCompare = () => import("./routes/RunCompare").then((m) => ({ Component: m.RunCompare }));
+const loadSharedReport = () => import("./routes/SharedReport").then((m) => ({ Component: m.SharedReport }));
 
 const queryClient = new QueryClient({
   defaultOptions: { queries: { retry: 1, refetchOnWindowFocus: false, staleTime: 10_000 } },
 });
+
+/**
+ * Loaders that only start a screen's requests and never wait for them: the answers are on their
+ * way while the route's module loads and the screens above render, instead of after (the query
+ * hooks then find them in flight). Returning at once keeps navigation as quick as without them.
+ */
+const prefetch =
+  <P,>(start: (params: P) => void) =>
+  ({ params }: { params: P }) => {
+    start(params);
+    return null;
+  };
 
 const router = createBrowserRouter([
   { path: "/sign-in", element: <SignIn /> },
@@ -50,34 +67,46 @@ const router = createBrowserRouter([
   { path: "/reset-password", element: <ResetPassword /> },
   { path: "/invitations/:invitationId", element: <InvitationAccept /> },
   { path: "/outbox", element: <OutboxPage /> },
-  { path: "/shared/:token", element: later(<SharedReport />) },
+  {
+    path: "/shared/:token",
+    lazy: loadSharedReport,
+    hydrateFallbackElement: <Loading what="Opening" />,
+    loader: prefetch((p: { token?: string }) => void queryClient.prefetchQuery(sharedReportQuery(p.token ?? ""))),
+  },
   {
     element: <AppShell />,
+    hydrateFallbackElement: <Loading what="Opening" />,
+    loader: prefetch(() => void queryClient.prefetchQuery(meQuery)),
     children: [
       { path: "/", element: <Navigate to="/workshops" replace /> },
       { path: "/workshops", element: <Workshops /> },
       {
         path: "/w/:workshopId",
         element: <WorkshopLayout />,
+        loader: prefetch((p: { workshopId?: string }) => void queryClient.prefetchQuery(workshopQuery(p.workshopId ?? ""))),
         children: [
           { index: true, element: <WorkshopHome /> },
           { path: "members", element: <Members /> },
-          { path: "recordings", element: later(<Recordings />) },
-          { path: "recordings/compose", element: later(<ScenarioEditor />) },
-          { path: "recordings/capture", element: later(<CaptureStart />) },
-          { path: "recordings/capture/:captureId", element: later(<CaptureLive />) },
-          { path: "recordings/airframes", element: later(<Airframes />) },
-          { path: "recordings/airframes/:airframeId", element: later(<AirframeChannels />) },
-          { path: "recordings/:recordingId", element: later(<RecordingPage />) },
-          { path: "panels", element: later(<Panels />) },
-          { path: "panels/:panelId", element: later(<PanelPage />) },
-          { path: "panels/:panelId/pointers/:elementId", element: later(<PanelScale />) },
-          { path: "runs", element: later(<Runs />) },
-          { path: "runs/new", element: later(<RunSetup />) },
-          { path: "runs/:runId", element: later(<RunConsole />) },
-          { path: "runs/:runId/panels/:panelId/virtual", element: later(<VirtualPanelWindow />) },
-          { path: "runs/:runId/report", element: later(<RunReport />) },
-          { path: "runs/:runId/compare/:otherRunId", element: later(<RunCompare />) },
+          { path: "recordings", lazy: loadRecordings },
+          { path: "recordings/compose", lazy: loadScenarioEditor },
+          { path: "recordings/capture", lazy: loadCaptureStart },
+          { path: "recordings/capture/:captureId", lazy: loadCaptureLive },
+          { path: "recordings/airframes", lazy: loadAirframes },
+          { path: "recordings/airframes/:airframeId", lazy: loadAirframeChannels },
+          { path: "recordings/:recordingId", lazy: loadRecordingPage },
+          { path: "panels", lazy: loadPanels },
+          { path: "panels/:panelId", lazy: loadPanelPage },
+          { path: "panels/:panelId/pointers/:elementId", lazy: loadPanelScale },
+          { path: "runs", lazy: loadRuns },
+          { path: "runs/new", lazy: loadRunSetup },
+          { path: "runs/:runId", lazy: loadRunConsole },
+          { path: "runs/:runId/panels/:panelId/virtual", lazy: loadVirtualPanelWindow },
+          {
+            path: "runs/:runId/report",
+            lazy: loadRunReport,
+            loader: prefetch((p: { workshopId?: string; runId?: string }) => void queryClient.prefetchQuery(runReportQuery(p.workshopId ?? "", p.runId ?? ""))),
+          },
+          { path: "runs/:runId/compare/:otherRunId", lazy: loadRunCompare },
         ],
       },
     ],

@@ -1,4 +1,5 @@
-import { and, asc, eq, type SQL } from "drizzle-orm";
+import { randomUUID } from "node:crypto";
+import { and, asc, eq, sql, type SQL } from "drizzle-orm";
 import type { MismatchView, RunDetail, RunSummary } from "../../shared/api/runs";
 import type { ElementStatus, MismatchKind } from "../../shared/compare/types";
 import type { Database } from "../db/client";
@@ -94,18 +95,75 @@ export async function detailOf(db: Database, row: RunRow, runs: RunManager): Pro
 }
 
 /** The JSON export (docs/run-report.md): the whole report in one document. */
+type ElementMismatch = Omit<MismatchView, "panelId" | "elementId">;
+const elementKey = (panelId: string, elementId: string) => `${panelId}\u0000${elementId}`;
+
+/** The JSON export (docs/run-report.md) as objects: for JUnit XML and the e-mailed summary. */
 export async function exportOf(db: Database, row: RunRow, runs: RunManager) {
-  const detail = await detailOf(db, row, runs);
   const mismatches = await mismatchRowsOf(db, row.id);
-  const fromMs = row.segment?.fromMs ?? 0;
   // Grouped in one pass: filtering the whole list once per element was quadratic (10,000 x 200).
-  const byElement = new Map<string, Omit<MismatchView, "panelId" | "elementId">[]>();
+  const byElement = new Map<string, ElementMismatch[]>();
   for (const { panelId, elementId, ...m } of mismatches) {
-    const key = `${panelId}\u0000${elementId}`;
+    const key = elementKey(panelId, elementId);
     const list = byElement.get(key);
     if (list) list.push(m);
     else byElement.set(key, [m]);
   }
+  return reportOf<ElementMismatch[]>(db, row, runs, mismatches.length, (panelId, elementId) => byElement.get(elementKey(panelId, elementId)) ?? []);
+}
+
+/**
+ * The same export as JSON text, for the answers that send it whole (export.json, a share link's
+ * report page). Each element's mismatch list is written as JSON by PostgreSQL (compact, in the
+ * export's key order; a number may be written differently, 1e-07 for 1e-7) and spliced into
+ * the text unread: Node never makes the 10,000 row objects, mismatch objects and their JSON, which
+ * on a server that had not served a report yet took most of the page's first second (issue 6,
+ * docs/run-report.md "Speed"). `shape` may change the report before it is written (a share link
+ * hides the maker); it must keep the mismatch lists as they are.
+ */
+export async function exportJsonOf(db: Database, row: RunRow, runs: RunManager, shape: (report: ExportedReport<unknown>) => object = (r) => r): Promise<string> {
+  const lists = await mismatchJsonOf(db, row.id);
+  let count = 0;
+  for (const list of lists.values()) count += list.count;
+  // Each list stands in the report as a string no report can otherwise hold (a fresh random
+  // mark), replaced by the list's JSON once the rest is written.
+  const mark = `\u0001mismatches:${randomUUID()}:`;
+  const spliced: string[] = [];
+  const report = await reportOf<string | []>(db, row, runs, count, (panelId, elementId) => {
+    const list = lists.get(elementKey(panelId, elementId));
+    if (!list) return [];
+    spliced.push(list.json);
+    return `${mark}${spliced.length - 1}`;
+  });
+  const parts = JSON.stringify(shape(report)).split(new RegExp(`"${escapeRegExp(JSON.stringify(mark).slice(1, -1))}(\\d+)"`));
+  // split() with a group alternates: text, list index, text, list index, ..., text.
+  for (let i = 1; i < parts.length; i += 2) parts[i] = spliced[Number(parts[i])];
+  return parts.join("");
+}
+
+const escapeRegExp = (text: string) => text.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
+
+/** Per element, its mismatches as a JSON array in export order (start, then id), and how many. */
+async function mismatchJsonOf(db: Database, runId: string): Promise<Map<string, { json: string; count: number }>> {
+  const result = await db.execute<{ panel_id: string; element_id: string; list: string; count: number }>(sql`
+    select panel_id, element_id, count(*)::int as count,
+      '[' || string_agg(
+        '{"id":"' || id || '","track":' || to_json(track)::text || ',"kind":' || to_json(kind)::text ||
+        ',"startMs":' || to_json(start_ms)::text || ',"endMs":' || to_json(end_ms)::text ||
+        ',"worstError":' || to_json(worst_error)::text || ',"expected":' || to_json(expected)::text ||
+        ',"seen":' || to_json(seen)::text || ',"atMs":' || to_json(at_ms)::text || '}',
+        ',' order by start_ms, id) || ']' as list
+    from mismatch where run_id = ${runId}
+    group by panel_id, element_id`);
+  return new Map(result.rows.map((r) => [elementKey(r.panel_id, r.element_id), { json: r.list, count: r.count }]));
+}
+
+/** The export with each element's mismatches as `M`. */
+export type ExportedReport<M> = Awaited<ReturnType<typeof reportOf<M>>>;
+
+async function reportOf<M>(db: Database, row: RunRow, runs: RunManager, mismatchCount: number, mismatchesOf: (panelId: string, elementId: string) => M) {
+  const detail = await detailOf(db, row, runs);
+  const fromMs = row.segment?.fromMs ?? 0;
   return {
     format: REPORT_FORMAT,
     version: REPORT_VERSION,
@@ -125,7 +183,7 @@ export async function exportOf(db: Database, row: RunRow, runs: RunManager) {
       finishedAt: detail.finishedAt,
       judgedAt: row.judgedAt?.toISOString() ?? null,
     },
-    summary: { passed: passed(detail.counts), counts: detail.counts, elements: detail.elements.length, mismatchCount: mismatches.length, lag: detail.lag },
+    summary: { passed: passed(detail.counts), counts: detail.counts, elements: detail.elements.length, mismatchCount, lag: detail.lag },
     panels: row.panels.map((p) => {
       const link = detail.links.find((l) => l.panelId === p.panelId);
       return {
@@ -135,7 +193,7 @@ export async function exportOf(db: Database, row: RunRow, runs: RunManager) {
         link: { ...row.links.find((l) => l.panelId === p.panelId)!, connected: link?.connected ?? false, faults: link?.faults ?? {}, gaps: link?.gaps ?? [] },
         elements: detail.elements
           .filter((e) => e.panelId === p.panelId)
-          .map((e) => ({ ...e, mismatches: byElement.get(`${p.panelId}\u0000${e.elementId}`) ?? [] })),
+          .map((e) => ({ ...e, mismatches: mismatchesOf(p.panelId, e.elementId) })),
       };
     }),
   };

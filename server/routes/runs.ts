@@ -22,7 +22,7 @@ import { parseBody, parseParams, parseQuery } from "../http/validate";
 import { authorize } from "../policies/actor";
 import { runPolicy } from "../policies/run";
 import { sharePolicy } from "../policies/share";
-import { detailOf, exportOf, junitOf, mismatchRowsOf, summaryOf } from "../bench/report";
+import { detailOf, exportJsonOf, exportOf, junitOf, mismatchRowsOf, summaryOf, type ExportedReport } from "../bench/report";
 import { RunConflict, type RunSession } from "../bench/run-session";
 import { EMPTY_COUNTS, judgeStored, storeJudgement } from "../bench/store";
 
@@ -349,7 +349,7 @@ export function runsRouter(services: Services) {
     authorize(runPolicy.read(await member(req, workshopId)), forbidden);
     const row = await findRun(workshopId, runId);
     res.set("content-disposition", `attachment; filename="run-${runId}.json"`);
-    res.json(await exportOf(db, row, runs));
+    res.type("json").send(await exportJsonOf(db, row, runs));
   });
 
   router.get("/:workshopId/runs/:runId/junit.xml", async (req, res) => {
@@ -429,9 +429,9 @@ export function sharedRouter(services: Services) {
     }
     const [row] = await db.select().from(run).where(eq(run.id, link.runId));
     if (!row) throw notFound("No such shared report.");
-    const report = await exportOf(db, row, runs);
     // The report without who made it: a public page names no workshop member.
-    res.json({ ...report, run: { ...report.run, createdBy: null }, sharedUntil: link.expiresAt.toISOString() });
+    const hideMaker = (report: ExportedReport<unknown>) => ({ ...report, run: { ...report.run, createdBy: null }, sharedUntil: link.expiresAt.toISOString() });
+    res.type("json").send(await exportJsonOf(db, row, runs, hideMaker));
   });
   return router;
 }

@@ -107,6 +107,7 @@ class FrameWriter {
     if (encoded.length > LINK_MAX_TEXT_BYTES) {
       throw new RangeError(`${what} is ${encoded.length} UTF-8 bytes, at most ${LINK_MAX_TEXT_BYTES}`);
     }
+    if (encoded.includes(0)) throw new RangeError(`${what} holds a zero byte (U+0000), which the link refuses`);
     this.u8(encoded.length, what);
     this.bytes.set(encoded, this.reserve(encoded.length, what));
   }
@@ -399,8 +400,11 @@ class FrameReader {
     const length = this.u8(`${what} length`);
     if (length > LINK_MAX_TEXT_BYTES) throw new PayloadError(`${what} is ${length} bytes, at most ${LINK_MAX_TEXT_BYTES}`);
     const at = this.take(length, what);
+    const bytes = this.bytes.subarray(at, at + length);
+    // No readout shows U+0000 and PostgreSQL text cannot hold it (a mismatch quoting it could not be kept).
+    if (bytes.includes(0)) throw new PayloadError(`${what} holds a zero byte at text byte ${bytes.indexOf(0)}`);
     try {
-      return textDecoder.decode(this.bytes.subarray(at, at + length));
+      return textDecoder.decode(bytes);
     } catch {
       throw new PayloadError(`${what} is not valid UTF-8`);
     }

@@ -1,4 +1,4 @@
-import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type {
   ChangeRoleBody,
   CreateInvitationBody,
@@ -16,26 +16,32 @@ import { authClient, unwrap } from "./auth-client";
 import { queryKeys } from "./query-keys";
 
 /** The signed-in person, or null when nobody is signed in. */
+export const meQuery = queryOptions({
+  queryKey: queryKeys.me,
+  queryFn: async () => {
+    try {
+      return await api.get<MeView>("/me");
+    } catch (err) {
+      if (err instanceof ApiError && err.status === 401) return null;
+      throw err;
+    }
+  },
+});
+
 export function useMe() {
-  return useQuery({
-    queryKey: queryKeys.me,
-    queryFn: async () => {
-      try {
-        return await api.get<MeView>("/me");
-      } catch (err) {
-        if (err instanceof ApiError && err.status === 401) return null;
-        throw err;
-      }
-    },
-  });
+  return useQuery(meQuery);
 }
+
+export const healthQuery = queryOptions({ queryKey: queryKeys.health, queryFn: () => api.get<HealthView>("/health"), staleTime: 60_000 });
 
 export function useHealth() {
-  return useQuery({ queryKey: queryKeys.health, queryFn: () => api.get<HealthView>("/health"), staleTime: 60_000 });
+  return useQuery(healthQuery);
 }
 
+export const workshopQuery = (id: string) => queryOptions({ queryKey: queryKeys.workshop(id), queryFn: () => api.get<WorkshopDetail>(`/workshops/${id}`) });
+
 export function useWorkshop(id: string) {
-  return useQuery({ queryKey: queryKeys.workshop(id), queryFn: () => api.get<WorkshopDetail>(`/workshops/${id}`) });
+  return useQuery(workshopQuery(id));
 }
 
 export function useMembers(id: string) {

@@ -4,13 +4,14 @@ import { XMLParser } from "fast-xml-parser";
 import { eq } from "drizzle-orm";
 import { PanelEmulator } from "../../server/bench/device-emulator";
 import { hostOnSerial, hostOnWebSocket, type EmulatorHost } from "../../server/bench/device-runner";
-import { run as runTable, shareLink } from "../../server/db/schema";
+import { mismatch as mismatchTable, run as runTable, shareLink } from "../../server/db/schema";
+import { exportOf } from "../../server/bench/report";
 import { encodeLinkFrame } from "../../shared/link/codec";
 import { panel as panelSchema, type Panel } from "../../shared/panel/schema";
 import type { Fault } from "../../shared/virtual/faults";
 import type { ChannelDefinition } from "../../shared/recording/channels";
 import { openPtyPair } from "../support/pty-pair";
-import { cookieOf, startBench, type Bench } from "./recordings-support";
+import { cookieOf, getText, startBench, type Bench } from "./recordings-support";
 import { makePanelAirframe, PANEL_CHANNELS, testDefinition, uploadRecording, RIG_FLIGHT } from "./panels-support";
 
 /**
@@ -132,6 +133,22 @@ describe("a run into a virtual panel driven by the device emulator over the WebS
     expect(cases).toHaveLength(5);
     expect(cases.reduce((s: number, c: { time: string }) => s + Number(c.time), 0)).toBeCloseTo(8, 2);
   }, 40_000);
+
+  it("export.json, written with PostgreSQL's help, reads back as the export's objects, odd characters too", async () => {
+    const db = bench.server.services.db;
+    const odd = ['quote " and backslash \\', "tab\tnew line\ncontrol \u0001mismatches:not-a-mark:0", "accents éü, a dial ° and an emoji 🛩", "\u2028 and \u2029"];
+    await db.insert(mismatchTable).values(
+      odd.map((text, i) => ({ runId: healthyRun, panelId, elementId: i % 2 ? "airspeed" : "fire", track: i % 2 ? "angle" : "lamp", kind: "wrong_value", startMs: 100 * i + 0.5, endMs: 100 * i + 50.25, worstError: i === 3 ? 1e-7 : 12.3456789, expected: text, seen: `${text}!`, atMs: 100 * i + 7 })),
+    );
+    const [row] = await db.select().from(runTable).where(eq(runTable.id, healthyRun));
+    const text = await getText(bench.visitors.viewer, `${base}/runs/${healthyRun}/export.json`);
+    expect(text.status).toBe(200);
+    expect(text.headers.get("content-type")).toMatch(/application\/json/);
+    // The same JSON value; PostgreSQL may write a number differently (1e-07 for 1e-7).
+    expect(JSON.parse(text.text)).toEqual(JSON.parse(JSON.stringify(await exportOf(db, row, bench.server.services.runs))));
+    expect(JSON.parse(text.text).panels[0].elements.find((e: { elementId: string }) => e.elementId === "fire").mismatches.map((m: { expected: string }) => m.expected)).toEqual([odd[0], odd[2]]);
+    await db.delete(mismatchTable).where(eq(mismatchTable.runId, healthyRun));
+  });
 
   it("with two injected faults fails exactly those two elements, with the right intervals; rejudging changes results without replaying", async () => {
     const faults: Fault[] = [

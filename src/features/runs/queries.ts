@@ -92,10 +92,6 @@ export function useLinkFaults(workshopId: string, runId: string) {
   });
 }
 
-export function useRunReport(workshopId: string, runId: string) {
-  return useQuery({ queryKey: runKeys.report(workshopId, runId), queryFn: () => api.get<RunReportView>(`${base(workshopId)}/${runId}/export.json`) });
-}
-
 export function useShares(workshopId: string, runId: string) {
   return useQuery({ queryKey: runKeys.shares(workshopId, runId), queryFn: () => api.get<ShareView[]>(`${base(workshopId)}/${runId}/shares`) });
 }
@@ -114,11 +110,6 @@ export function useRevokeShare(workshopId: string, runId: string) {
     mutationFn: (shareId: string) => api.delete<ShareView>(`${base(workshopId)}/${runId}/shares/${shareId}`),
     onSuccess: () => qc.invalidateQueries({ queryKey: runKeys.shares(workshopId, runId) }),
   });
-}
-
-/** GET /api/shared/:token, no sign-in: the report, or 410 revoked/expired, 404 unknown. */
-export function useSharedReport(token: string) {
-  return useQuery({ queryKey: runKeys.shared(token), queryFn: () => api.get<RunReportView & { sharedUntil: string }>(`/shared/${encodeURIComponent(token)}`), retry: false });
 }
 
 /** Plain links the browser saves (attachment answers). */

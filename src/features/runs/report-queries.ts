@@ -1,4 +1,4 @@
-import { useMutation, useQuery } from "@tanstack/react-query";
+import { queryOptions, useMutation, useQuery } from "@tanstack/react-query";
 import type { EmailReportAnswer, EmailReportBody, PanelRunHistoryRow, PointerTracesView, RunComparisonView, RunExpectedView } from "../../../shared/api/run-reports";
 import { api } from "../../lib/api";
 import { runKeys, type RunReportView } from "./queries";
@@ -35,23 +35,32 @@ export function useRunExpected(source: ReportSource, enabled = true) {
  * which for 10,000 mismatches cost more than the JSON parse (issue 6, docs/run-report.md).
  */
 
-/** A member's view: the JSON export (docs/run-report.md), under the same key as queries.ts' useRunReport. */
-export function useRunReportView(workshopId: string, runId: string) {
-  return useQuery({
+/** A member's view: the JSON export (docs/run-report.md), GET /api/workshops/:w/runs/:r/export.json. */
+export const runReportQuery = (workshopId: string, runId: string) =>
+  queryOptions({
     queryKey: runKeys.report(workshopId, runId),
     queryFn: () => api.get<RunReportView>(`/workshops/${workshopId}/runs/${runId}/export.json`),
     structuralSharing: false,
   });
+
+export function useRunReportView(workshopId: string, runId: string) {
+  return useQuery(runReportQuery(workshopId, runId));
 }
 
-/** A share link's view: the same report without its maker, and until when the link works. */
-export function useSharedReportView(token: string) {
-  return useQuery({
+/**
+ * A share link's view (GET /api/shared/:token, no sign-in): the same report without its maker, and
+ * until when the link works; 410 revoked or expired, 404 unknown.
+ */
+export const sharedReportQuery = (token: string) =>
+  queryOptions({
     queryKey: runKeys.shared(token),
     queryFn: () => api.get<RunReportView & { sharedUntil: string }>(`/shared/${encodeURIComponent(token)}`),
     retry: false,
     structuralSharing: false,
   });
+
+export function useSharedReportView(token: string) {
+  return useQuery(sharedReportQuery(token));
 }
 
 /** One pointer's expected and seen angles. */

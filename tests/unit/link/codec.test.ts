@@ -181,6 +181,7 @@ describe("decoding faults", () => {
     ["a boolean byte of 2", "01 03 04 00 00 01 00 00 01 02"],
     ["a text length beyond 32", "01 03 04 00 00 01 00 00 05 21" + " 41".repeat(33)],
     ["invalid UTF-8 text", "01 03 04 00 00 01 00 00 05 01 ff"],
+    ["a zero byte in text (PostgreSQL could not keep it)", "01 03 04 00 00 01 00 00 05 02 41 00"],
     ["a non-finite float (NaN)", "01 03 04 00 00 01 00 00 03 00 00 c0 7f"],
     ["a lamp state of 3", "01 03 82 00 00 00 01 00 00 02 03"],
     ["a breaker position of 3", "01 03 82 00 00 00 01 00 00 06 03"],
