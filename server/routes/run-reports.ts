@@ -17,6 +17,7 @@ import { coverageGaps } from "../../shared/compare/coverage-suggestions";
 import { diffHeadline, diffRuns, passRate } from "../../shared/compare/run-diff";
 import type { ElementStatus } from "../../shared/compare/types";
 import { panelCoverage } from "../../shared/expect/coverage";
+import { timelinesWithin } from "../../shared/expect/window";
 import { expectTimelines } from "../../shared/expect/engine";
 import { normalizeAngle } from "../../shared/elements/scale/scale";
 import { member as memberTable, panel, recording, run, runElementResult, shareLink, user } from "../db/schema";
@@ -89,7 +90,9 @@ async function computeExpectedView(services: Services, row: RunRow): Promise<Run
   for (const p of row.panels) {
     // Other requests (the report itself, the mismatches) get a turn between panels.
     await nextTurn();
-    const timelines = expectTimelines(p.definition, rec.frames, { endMs: rec.durationMs });
+    // What the run judged: its segment, up to where it got. Coverage read from the whole recording
+    // would credit a segment run with what it never played.
+    const timelines = timelinesWithin(expectTimelines(p.definition, rec.frames, { endMs: rec.durationMs }), fromMs, toMs);
     panels.push({
       panelId: p.panelId,
       name: p.name,

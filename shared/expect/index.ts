@@ -6,3 +6,4 @@ export * from "./coverage";
 export * from "./tracks";
 export * from "./slew";
 export { FRAMES_PER_CHUNK } from "./columns";
+export * from "./window";
