@@ -179,6 +179,18 @@ export class VirtualPanelDevice {
     for (const f of this.core.input({ type: "input_event", inputs: [entry] })) this.outgoing.push(encodeLinkFrame(f));
   }
 
+  /**
+   * A push button pressed or let go by hand: the link says so at once (an input event), as a board
+   * does on a key's edge. Buttons do not rest anywhere, so nothing is held.
+   */
+  pressButton(elementId: string, pressed: boolean) {
+    const index = this.panel.elements.findIndex((e) => e.id === elementId);
+    const el = this.panel.elements[index];
+    if (!el) throw new Error(`no element ${elementId} on panel ${this.panel.id}`);
+    if (el.kind !== "button") throw new Error(`${elementId} is a ${el.kind}; only a push button is pressed`);
+    for (const f of this.core.input({ type: "input_event", inputs: [{ element: index, kind: "button", pressed }] })) this.outgoing.push(encodeLinkFrame(f));
+  }
+
   /** Frames the panel has to say on its own (inputs moved by hand), oldest first; empties the list. */
   takeOutgoing(): Uint8Array[] {
     return this.outgoing.splice(0);

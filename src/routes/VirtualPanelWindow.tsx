@@ -1,3 +1,4 @@
+import { HandButtons, type ButtonElement } from "../features/runs/HandButtons";
 import { useEffect, useRef, useState } from "react";
 import { Link, useOutletContext, useParams } from "react-router";
 import type { WorkshopDetail } from "../../shared/api/workshops";
@@ -96,6 +97,7 @@ export function VirtualPanelWindow() {
   if (!run || !definition) return <Loading what="Opening the virtual panel" />;
 
   const inputs = definition.elements.filter(isInput);
+  const buttons = definition.elements.filter((e): e is ButtonElement => e.kind === "button" && !e.placeholder);
   const move = (el: InputElement, value: string) => {
     if (!device) return;
     if (value === FOLLOW) device.releaseInput(el.id);
@@ -148,12 +150,13 @@ export function VirtualPanelWindow() {
           </div>
         )}
       </Card>
-      {!refusal && inputs.length > 0 && (
+      {!refusal && inputs.length + buttons.length > 0 && (
         <Card title="Inputs by hand">
           <p className="mb-3 text-sm text-ink-soft">
             Inputs follow the recording, as if someone moved them on cue. Put one somewhere by hand and it stays there, and the panel reports the move as a board would.
           </p>
-          <div className="grid gap-3 sm:grid-cols-2 lg:grid-cols-3">
+          <HandButtons buttons={buttons} onPress={(el, pressed) => device?.pressButton(el.id, pressed)} disabled={!device} />
+          <div className="mt-3 grid gap-3 sm:grid-cols-2 lg:grid-cols-3">
             {inputs.map((el) => (
               <label key={el.id} className="flex flex-col gap-1 text-sm font-semibold">
                 {el.label}

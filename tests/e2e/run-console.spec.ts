@@ -4,7 +4,7 @@ import { airframeWith, importedRecording, ownerOfNewWorkshop, panelFrom } from "
 /**
  * The run console's live features (issue 6) in the browser, with this browser as the virtual
  * panel: a fault injected from the console before play, the set-up check blocking play until
- * overridden, the input walk answered by moving the virtual panel's lever by hand, keys (arrow
+ * overridden, the input walk answered by moving the virtual panel's lever and pressing its button by hand, keys (arrow
  * steps, space pauses and plays, N goes to the next mismatch) and observation questions answered
  * by key and by click, ending in an observed mismatch.
  */
@@ -17,6 +17,7 @@ const CHANNELS = [
   { name: "gear.handle", kind: "enum", values: ["UP", "DOWN"] },
   { name: "xpdr.code", kind: "text", maxLength: 4 },
   { name: "clock.s", kind: "number", unit: "s" },
+  { name: "annun.ack", kind: "boolean" },
 ];
 // A clock readout ticks every second: the panel reports at each tick, and the bench's live judge
 // settles mismatches as reports come in, so the live mismatch table fills while the run plays.
@@ -41,6 +42,7 @@ const DEFINITION = {
     { kind: "readout", id: "xpdr", label: "XPDR", value: { channel: "xpdr.code" }, format: { width: 4 } },
     { kind: "lever", id: "gear", label: "GEAR", positions: ["up", "down"], position: { channel: "gear.handle", map: { UP: "up", DOWN: "down" } } },
     { kind: "readout", id: "clock", label: "CLOCK", value: { channel: "clock.s" }, format: { width: 2 } },
+    { kind: "button", id: "ack", label: "ACK", pressed: { channel: "annun.ack" } },
   ],
 };
 
@@ -96,8 +98,11 @@ test("set-up check, input walk, keys and observations in the run console", async
   await page.getByLabel("Move GEAR").selectOption("down");
   await expect(prompt).toHaveText("Move the GEAR lever to up");
   await page.getByLabel("Move GEAR").selectOption("up");
+  // A push button is pressed on the virtual panel by hand: the link says pressed, then let go.
+  await expect(prompt).toHaveText("Press the ACK button");
+  await page.getByRole("button", { name: "Press ACK" }).click();
   const results = page.getByRole("table", { name: "Input walk results" });
-  await expect(results.locator('tr[data-result="pass"]')).toHaveCount(2);
+  await expect(results.locator('tr[data-result="pass"]')).toHaveCount(3);
   await expect(prompt).toHaveCount(0);
 
   // Keys: the right arrow steps one frame at a time.

@@ -1,3 +1,4 @@
+import { HandButtons, type ButtonElement } from "./HandButtons";
 import { useEffect, useMemo, useRef, useState } from "react";
 import type { Element } from "../../../shared/elements/kinds";
 import type { ExpectedState } from "../../../shared/expect";
@@ -142,6 +143,7 @@ export function PanelLive({
         </svg>
       </div>
       {device && <HandControls elements={definition.elements} held={held} states={states} onMove={move} />}
+      {device && <HandButtons buttons={definition.elements.filter((e): e is ButtonElement => e.kind === "button" && !e.placeholder)} onPress={(el, pressed) => device.pressButton(el.id, pressed)} />}
       {observed.length > 0 && (
         <p className="text-xs text-ink-soft" data-testid={`observed-${panelId}`}>
           ◉ Watched by eye: {definition.elements.filter((e) => observed.includes(e.id)).map((e) => e.label).join(", ")}

@@ -23,6 +23,7 @@ const definition = panelSchema.parse({
     { kind: "switch", id: "beacon", label: "BEACON", positions: ["off", "on"], position: { channel: "lights.beacon" } },
     { kind: "breaker", id: "cb-pitot", label: "PITOT", trip: { channel: "cb.pitot" }, pulled: { channel: "cb.pitot_pulled" } },
     { kind: "readout", id: "code", label: "CODE", display: "seven-segment", value: { channel: "xpdr.code" }, format: { width: 4 } },
+    { kind: "button", id: "ack", label: "ACK", pressed: { channel: "annun.ack" } },
   ],
 });
 
@@ -116,6 +117,19 @@ describe("the shared virtual panel", () => {
     expect(seenOf(b.heard([device.periodic()!]))).toEqual(expect.arrayContaining([{ element: 2, kind: "switch", position: 0 }, { element: 3, kind: "breaker", position: "pulled" }]));
     device.releaseInput("beacon");
     expect(device.shown()["beacon"].position).toBe("on");
+  });
+
+  it("says a push button pressed and let go by hand with input events, and refuses to press anything else", () => {
+    const device = new VirtualPanelDevice({ panel: definition, clock: () => 0 });
+    const b = bench(device);
+    device.pressButton("ack", true);
+    device.pressButton("ack", false);
+    expect(b.heard(device.takeOutgoing())).toEqual([
+      { type: "input_event", inputs: [{ element: 5, kind: "button", pressed: true }] },
+      { type: "input_event", inputs: [{ element: 5, kind: "button", pressed: false }] },
+    ]);
+    expect(() => device.pressButton("beacon", true)).toThrow(/only a push button/);
+    expect(() => device.pressButton("nothing", true)).toThrow(/no element/);
   });
 
   it("refuses to move what is not an input, or to a position the element does not have", () => {
