@@ -24,6 +24,8 @@ const RECHECK_MS = 25;
  * judging meet the same instants.
  */
 export class AngleTrackJudge {
+  /** Reports held before judging up to the newest and forgetting the ones behind (tests vary it). */
+  static keepSeen = 4096;
   private readonly sweep: MismatchSweep;
   // Two flat number arrays rather than an object per report: a run holds millions of reports.
   private readonly seenT: number[] = [];
@@ -57,6 +59,7 @@ export class AngleTrackJudge {
     else {
       this.seenT.push(t);
       this.seenAngle.push(angle);
+      if (n + 1 >= AngleTrackJudge.keepSeen) this.judgeUpTo(t);
     }
   }
 
@@ -189,6 +192,23 @@ export class AngleTrackJudge {
       if (g.toMs > a && g.toMs < b) b = g.toMs;
     }
     return b;
+  }
+
+  /**
+   * Judges everything before `t` (a report's instant: reports of one pointer come in time order, so
+   * none earlier can still arrive) and forgets the reports no longer needed, keeping the one held
+   * at the cursor. Judged as it goes, a pointer keeps a few thousand reports instead of an hour's
+   * 72,000, which the garbage collector otherwise copied and marked again and again
+   * (docs/judging.md, "Speed"). Advancing at any instant gives the same result as at the end (the
+   * cut-short rule below); a property test compares the two.
+   */
+  private judgeUpTo(t: number) {
+    this.advance(t);
+    const drop = this.seenIndex;
+    if (drop <= 0) return;
+    this.seenT.splice(0, drop);
+    this.seenAngle.splice(0, drop);
+    this.seenIndex = 0;
   }
 
   /** True when the last advance stopped between two instants: the verdict made before still holds. */

@@ -1,6 +1,7 @@
 import fc from "fast-check";
 import { quantileSorted } from "simple-statistics";
 import { describe, expect, it } from "vitest";
+import { AngleTrackJudge } from "../../../shared/compare/angle";
 import { ElementJudge, RunJudge, judgeOffline } from "../../../shared/compare/judge";
 import { quantileOfSorted } from "../../../shared/compare/statistics";
 import type { SeenSample, Tolerances } from "../../../shared/compare/types";
@@ -212,6 +213,24 @@ describe("live judging equals offline judging", () => {
         }
         while (i < samples.length) live.addSeen(samples[i].elementId, samples[i++].sample);
         expect(live.finish()).toEqual(offline);
+      }),
+      { numRuns: 150 },
+    );
+  });
+
+  it("a pointer's judge that judges as it goes and forgets old reports gives what one holding them all gives", () => {
+    fc.assert(
+      fc.property(arbitrarySeen, fc.integer({ min: 2, max: 9 }), (raw, keep) => {
+        const samples = toSamples(raw);
+        const kept = AngleTrackJudge.keepSeen;
+        try {
+          AngleTrackJudge.keepSeen = Infinity;
+          const holdingAll = judgeOffline(timelines, samples, [], tolerances);
+          AngleTrackJudge.keepSeen = keep;
+          expect(judgeOffline(timelines, samples, [], tolerances)).toEqual(holdingAll);
+        } finally {
+          AngleTrackJudge.keepSeen = kept;
+        }
       }),
       { numRuns: 150 },
     );
