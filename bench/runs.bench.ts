@@ -1,9 +1,9 @@
 import pg from "pg";
-import { drizzle } from "drizzle-orm/node-postgres";
 import { judgeOffline, RunJudge, tolerancesOf } from "../shared/compare/judge";
 import type { Mismatch, SeenSample } from "../shared/compare/types";
 import type { ElementTimeline, ExpectedTimelines } from "../shared/expect/types";
-import { insertMismatches } from "../server/bench/store";
+import { copyMismatches } from "../server/bench/store";
+import { copyFrom } from "../server/db/copy";
 import { encodeSeenChunk } from "../server/bench/seen-log";
 import type { BenchReport, BenchRow } from "./harness";
 
@@ -33,6 +33,9 @@ function makeRun(elementsCount = 200) {
   const timelines: ExpectedTimelines = { panelId: "bench", startMs: 0, endMs: HOUR_MS, elements };
   return { timelines, seen };
 }
+
+/** Rounds of storing, alternating the server's path and the bare COPY. */
+const STORE_ROUNDS = 3;
 
 export async function run(): Promise<BenchReport> {
   const rows: BenchRow[] = [];
@@ -80,48 +83,38 @@ export async function run(): Promise<BenchReport> {
   try {
     // Foreign keys off for this session only: the rows belong to no real run.
     await client.query("SET session_replication_role = replica");
-    const db = drizzle(client);
-    const runId = `bench-${Date.now()}`;
-    t0 = performance.now();
-    await client.query("BEGIN");
-    await insertMismatches(db as never, runId, "bench-panel", list);
-    await client.query("COMMIT");
-    const batchedMs = performance.now() - t0;
-    await client.query("DELETE FROM mismatch WHERE run_id = $1", [runId]);
-
     const esc = (s: string) => s.replace(/\\/g, "\\\\").replace(/\t/g, "\\t").replace(/\n/g, "\\n").replace(/\r/g, "\\r");
-    const text = list.map((m) => [runId, "bench-panel", m.elementId, m.track, m.kind, m.startMs, m.endMs, m.worstError, esc(m.expected), esc(m.seen), m.atMs].join("\t")).join("\n") + "\n";
-    t0 = performance.now();
-    await client.query("BEGIN");
-    // A bare COPY of the same rows: text format, FROM STDIN, through the pg package's query
-    // (a minimal submittable speaking the COPY sub-protocol; no extra package).
-    await new Promise<void>((resolve, reject) => {
-      let failed: Error | null = null;
-      const copy = {
-        submit: (connection: { query(sql: string): void }) =>
-          connection.query("COPY mismatch (run_id, panel_id, element_id, track, kind, start_ms, end_ms, worst_error, expected, seen, at_ms) FROM STDIN"),
-        handleCopyInResponse: (connection: { sendCopyFromChunk(b: Buffer): void; endCopyFrom(): void }) => {
-          connection.sendCopyFromChunk(Buffer.from(text));
-          connection.endCopyFrom();
-        },
-        handleCommandComplete: () => undefined,
-        handleError: (error: Error) => (failed = error),
-        handleReadyForQuery: () => (failed ? reject(failed) : resolve()),
-      };
-      client.query(copy as never);
-    });
-    await client.query("COMMIT");
-    const copyMs = performance.now() - t0;
-    await client.query("DELETE FROM mismatch WHERE run_id = $1", [runId]);
+    const textOf = (runId: string) => list.map((m) => [runId, "bench-panel", m.elementId, m.track, m.kind, m.startMs, m.endMs, m.worstError, esc(m.expected), esc(m.seen), m.atMs].join("\t")).join("\n") + "\n";
+    // Alternating rounds, best of each: the first write into the table is slower whichever goes first.
+    let batchedMs = Infinity;
+    let copyMs = Infinity;
+    for (let round = 0; round < STORE_ROUNDS; round++) {
+      const runId = `bench-${Date.now()}-${round}`;
+      t0 = performance.now();
+      await client.query("BEGIN");
+      await copyMismatches(client, runId, "bench-panel", list);
+      await client.query("COMMIT");
+      batchedMs = Math.min(batchedMs, performance.now() - t0);
+      await client.query("DELETE FROM mismatch WHERE run_id = $1", [runId]);
+
+      // A bare COPY of the same rows, its text made beforehand (not timed).
+      const text = textOf(runId);
+      t0 = performance.now();
+      await client.query("BEGIN");
+      await copyFrom(client, "COPY mismatch (run_id, panel_id, element_id, track, kind, start_ms, end_ms, worst_error, expected, seen, at_ms) FROM STDIN", text);
+      await client.query("COMMIT");
+      copyMs = Math.min(copyMs, performance.now() - t0);
+      await client.query("DELETE FROM mismatch WHERE run_id = $1", [runId]);
+    }
     rows.push({
-      metric: `store ${list.length} mismatches of a one-hour run (server batches of 5000)`,
+      metric: `store ${list.length} mismatches of a one-hour run (the server's COPY, its text made from the mismatches)`,
       value: list.length / (batchedMs / 1000),
       unit: "rows/s",
       baseline: list.length / (copyMs / 1000),
       ratio: copyMs / batchedMs,
       target: ">= 0.5 of COPY",
       met: copyMs / batchedMs >= 0.5,
-      note: `batched insert ${batchedMs.toFixed(0)} ms, bare COPY FROM STDIN ${copyMs.toFixed(0)} ms`,
+      note: `server's copyMismatches ${batchedMs.toFixed(0)} ms, bare COPY FROM STDIN of prepared text ${copyMs.toFixed(0)} ms; best of ${STORE_ROUNDS} alternating rounds each`,
     });
   } finally {
     await client.end();

@@ -7,7 +7,9 @@ import { summarizeLags } from "../../shared/compare/statistics";
 import { expectTimelines } from "../../shared/expect/engine";
 import type { ChannelDefinition } from "../../shared/recording/channels";
 import type { Frame } from "../../shared/recording/frames";
+import type pg from "pg";
 import type { Database } from "../db/client";
+import { copyField, copyFrom, withClientTransaction } from "../db/copy";
 import { mismatch, recording, run, runElementResult, seenLog } from "../db/schema";
 void mismatch;
 import type { DbOrTx } from "../recordings/writer";
@@ -84,7 +86,7 @@ export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<To
 export async function storeJudgement(db: Database, runId: string, panels: PanelJudgement[], batch = 1000): Promise<void> {
   const counts = { ...EMPTY_COUNTS };
   let mismatchTotal = 0;
-  await db.transaction(async (tx) => {
+  await withClientTransaction(db, async (tx, client) => {
     await tx.delete(mismatch).where(eq(mismatch.runId, runId));
     await tx.delete(runElementResult).where(eq(runElementResult.runId, runId));
     const elementRows = panels.flatMap((p) =>
@@ -106,7 +108,7 @@ export async function storeJudgement(db: Database, runId: string, panels: PanelJ
     for (let i = 0; i < elementRows.length; i += batch) await tx.insert(runElementResult).values(elementRows.slice(i, i + batch));
     for (const p of panels) {
       mismatchTotal += p.judgement.mismatches.length;
-      await insertMismatches(tx, runId, p.panelId, p.judgement.mismatches, batch);
+      await copyMismatches(client, runId, p.panelId, p.judgement.mismatches);
     }
     const lag = summarizeLagsOf(panels);
     await tx.update(run).set({ counts, mismatchCount: mismatchTotal, lag, judgedAt: new Date() }).where(eq(run.id, runId));
@@ -125,20 +127,21 @@ export function summarizeLagsOf(panels: PanelJudgement[]) {
 }
 
 /**
- * Mismatch rows in batches of `batch`: one INSERT ... SELECT FROM json_to_recordset() per batch,
- * one parameter instead of eleven per row (drizzle's multi-row VALUES was 9 times slower
- * than COPY; this runs close to it, see bench/runs.bench.ts). Never one insert per interval.
+ * Mismatch rows of one panel in one COPY (server/db/copy.ts), inside the caller's transaction.
+ * Never one insert per interval: drizzle's multi-row VALUES was 9 times slower than a bare COPY,
+ * INSERT ... SELECT FROM json_to_recordset() in batches of 5,000 about half as quick
+ * (bench/runs.bench.ts).
  */
-export async function insertMismatches(db: DbOrTx, runId: string, panelId: string, list: readonly Mismatch[], batch = 5000): Promise<void> {
-  for (let i = 0; i < list.length; i += batch) {
-    const rows = JSON.stringify(
-      list.slice(i, i + batch).map((m) => ({ e: m.elementId, tr: m.track, k: m.kind, s: m.startMs, en: m.endMs, w: m.worstError, ex: m.expected, se: m.seen, a: m.atMs })),
-    );
-    await db.execute(sql`
-      INSERT INTO mismatch (run_id, panel_id, element_id, track, kind, start_ms, end_ms, worst_error, expected, seen, at_ms)
-      SELECT ${runId}, ${panelId}, e, tr, k, s, en, w, ex, se, a
-      FROM json_to_recordset(${rows}::json) AS x(e text, tr text, k text, s float8, en float8, w float8, ex text, se text, a float8)`);
+export async function copyMismatches(client: pg.ClientBase, runId: string, panelId: string, list: readonly Mismatch[]): Promise<void> {
+  if (list.length === 0) return;
+  const lines: string[] = new Array(list.length);
+  const runField = copyField(runId);
+  const panelField = copyField(panelId);
+  for (let i = 0; i < list.length; i++) {
+    const m = list[i];
+    lines[i] = `${runField}\t${panelField}\t${copyField(m.elementId)}\t${copyField(m.track)}\t${copyField(m.kind)}\t${m.startMs}\t${m.endMs}\t${m.worstError}\t${copyField(m.expected)}\t${copyField(m.seen)}\t${m.atMs}`;
   }
+  await copyFrom(client, "COPY mismatch (run_id, panel_id, element_id, track, kind, start_ms, end_ms, worst_error, expected, seen, at_ms) FROM STDIN", lines.join("\n") + "\n");
 }
 
 /** Judges a run from storage with its own tolerance and stores the result. */
