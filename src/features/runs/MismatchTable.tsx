@@ -123,7 +123,8 @@ export const MismatchTable = memo(function MismatchTable({
           {matching === mismatches.length ? `${mismatches.length} ${mismatches.length === 1 ? "mismatch" : "mismatches"}` : `${matching} of ${mismatches.length} mismatches`}
         </p>
       </div>
-      <div className="overflow-x-auto rounded-lg border border-rule bg-card">
+      {/* Laid out only when scrolled near (a page of 100 rows is usually below the fold at first). */}
+      <div className="overflow-x-auto rounded-lg border border-rule bg-card [contain-intrinsic-size:auto_3600px] [content-visibility:auto]">
         <table className="w-full text-left text-sm" aria-label="Mismatches">
           <SortableHead table={table} />
           <tbody>
