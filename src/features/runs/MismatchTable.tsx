@@ -11,6 +11,7 @@ import { SortableHead } from "../../components/table";
 import { MISMATCH_KINDS } from "../../../shared/compare/types";
 import type { LiveMismatch } from "./live";
 import { clock, Empty, MISMATCH_WORDS } from "./words";
+import { lazyLayout } from "./lazy-layout";
 
 const col = createColumnHelper<LiveMismatch>();
 
@@ -124,7 +125,7 @@ export const MismatchTable = memo(function MismatchTable({
         </p>
       </div>
       {/* Laid out only when scrolled near (a page of 100 rows is usually below the fold at first). */}
-      <div className="overflow-x-auto rounded-lg border border-rule bg-card [contain-intrinsic-size:auto_3600px] [content-visibility:auto]">
+      <div className="overflow-x-auto rounded-lg border border-rule bg-card" style={lazyLayout(rows.length)}>
         <table className="w-full text-left text-sm" aria-label="Mismatches">
           <SortableHead table={table} />
           <tbody>

@@ -2,6 +2,7 @@ import { memo, startTransition, useCallback, useDeferredValue, useEffect, useMem
 import type { RunExpectedView } from "../../../shared/api/run-reports";
 import { Card, ErrorNote, Loading } from "../../components/ui";
 import { elementKey } from "./live";
+import { lazyLayout } from "./lazy-layout";
 import { MismatchTable } from "./MismatchTable";
 import { PanelAtInstant } from "./PanelAtInstant";
 import { PointerTraces } from "./PointerTraces";
@@ -196,7 +197,7 @@ const PanelElementsCard = memo(function PanelElementsCard({ panel: p, rows }: { 
         </p>
       )}
       {/* Laid out only when scrolled near: 200 rows below the fold cost the first paint nothing. */}
-      <div className="overflow-x-auto rounded-lg border border-rule [contain-intrinsic-size:auto_900px] [content-visibility:auto]">
+      <div className="overflow-x-auto rounded-lg border border-rule" style={lazyLayout(Math.min(rows, p.elements.length))}>
         <table className="w-full text-left text-sm" aria-label={`Elements of ${p.name}`}>
           <thead className="border-b border-rule bg-paper/60 text-ink-soft">
             <tr>
