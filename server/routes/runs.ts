@@ -14,6 +14,7 @@ import {
   type RunDetail,
 } from "../../shared/api/runs";
 import { entityId } from "../../shared/api/workshops";
+import { faultProblem } from "../../shared/virtual/faults";
 import { panel, recording, run, shareLink } from "../db/schema";
 import type { RunPanelSnapshot } from "../db/runs-schema";
 import { requireActor, requireMembership, type Services } from "../http/context";
@@ -156,6 +157,13 @@ export function runsRouter(services: Services) {
       if (!p) throw invalid(`body.links.${i}.panelId`, "no such panel in this workshop");
       if (p.airframeId !== rec.airframeId) throw invalid(`body.links.${i}.panelId`, `panel "${p.name}" is of another airframe than the recording`);
       snapshots.push({ panelId: p.id, name: p.name, definition: p.definition });
+      const l = body.links[i];
+      if (l.kind === "virtual") {
+        l.faults.forEach((f, j) => {
+          const problem = faultProblem(f, p.definition.elements);
+          if (problem) throw invalid(`body.links.${i}.faults.${j}.${problem.field}`, problem.message);
+        });
+      }
     }
     if (body.segment) {
       if (body.segment.toMs <= body.segment.fromMs) throw invalid("body.segment.toMs", "must be after fromMs");
@@ -314,10 +322,10 @@ export function runsRouter(services: Services) {
     if (index < 0) throw notFound("This panel is not part of the run.");
     const link = row.links[index];
     if (link.kind !== "virtual") throw invalid("params.panelId", `this panel is linked as ${link.kind}; only a virtual panel takes injected faults`);
-    const elementIds = new Set(row.panels.find((p) => p.panelId === panelId)?.definition.elements.map((e) => e.id) ?? []);
+    const elements = row.panels.find((p) => p.panelId === panelId)?.definition.elements ?? [];
     faults.forEach((f, i) => {
-      if ("element" in f && !elementIds.has(f.element)) throw invalid(`body.faults.${i}.element`, `the panel has no element "${f.element}"`);
-      if (f.kind === "disconnect" && f.toMs <= f.fromMs) throw invalid(`body.faults.${i}.toMs`, "must be after fromMs");
+      const problem = faultProblem(f, elements);
+      if (problem) throw invalid(`body.faults.${i}.${problem.field}`, problem.message);
     });
     const links = row.links.map((l, i) => (i === index ? { ...link, faults } : l));
     await db.update(run).set({ links }).where(eq(run.id, runId));

@@ -2,6 +2,7 @@ import { z } from "zod";
 import { angleAt, valueAt } from "../expect/lookup";
 import type { ElementTimeline, ExpectedTimelines, LampShows } from "../expect/types";
 import type { LinkGap, SeenSample } from "../compare/types";
+import type { Element } from "../elements/kinds";
 
 /**
  * Faults a virtual panel can be told to have, for demos and for testing the tester: each is
@@ -27,6 +28,40 @@ export const fault = z.discriminatedUnion("kind", [
 ]);
 export type Fault = z.infer<typeof fault>;
 export const faultList = z.array(fault).max(100);
+
+type ElementKind = Element["kind"];
+
+/** The element kinds each fault acts on (what it changes must be something the element shows). */
+export const FAULT_TARGETS: Record<Exclude<Fault["kind"], "disconnect">, readonly ElementKind[]> = {
+  lamp_stuck: ["lamp", "button"],
+  lamp_inverted: ["lamp", "button"],
+  pointer_offset: ["pointer"],
+  pointer_scale: ["pointer"],
+  pointer_slow: ["pointer"],
+  missed_steps: ["pointer"],
+  digit_dropped: ["readout"],
+  breaker_stuck: ["breaker"],
+  added_lag: ["lamp", "button", "pointer", "readout", "breaker", "switch", "lever", "encoder"],
+};
+
+/** Whether `fault` can act on `el` (a lamp fault on a pointer would change nothing). */
+export function faultFits(kind: Fault["kind"], el: Pick<Element, "kind" | "placeholder">): boolean {
+  if (kind === "disconnect") return true;
+  return !el.placeholder && FAULT_TARGETS[kind].includes(el.kind);
+}
+
+/**
+ * Why a fault cannot be injected into a panel with these elements, in words, or null. `disconnect`
+ * needs a real stretch; the others an element the panel has, of a kind the fault acts on.
+ */
+export function faultProblem(f: Fault, elements: readonly Pick<Element, "id" | "kind" | "label" | "placeholder">[]): { field: string; message: string } | null {
+  if (f.kind === "disconnect") return f.toMs <= f.fromMs ? { field: "toMs", message: "must be after fromMs" } : null;
+  const el = elements.find((e) => e.id === f.element);
+  if (!el) return { field: "element", message: `the panel has no element "${f.element}"` };
+  if (el.placeholder) return { field: "element", message: `"${el.label}" is a placeholder: it is never judged, so a fault on it tests nothing` };
+  if (!faultFits(f.kind, el)) return { field: "element", message: `"${el.label}" is a ${el.kind}; this fault acts on a ${FAULT_TARGETS[f.kind].join(" or ")}` };
+  return null;
+}
 
 export interface SimulatedPanelOptions {
   /** How often a pointer reports its angle (a real board: every few tens of ms). */

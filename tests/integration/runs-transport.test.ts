@@ -294,6 +294,14 @@ describe("faults during the run", () => {
     const wrong = await bench.visitors.builder.request("PUT", url, { faults: [{ kind: "lamp_inverted", element: "ghost" }] });
     expect(wrong.status).toBe(422);
     expect(wrong.body.error.issues[0].path).toBe("body.faults.0.element");
+    // A fault must act on something the element shows: a lamp fault on a pointer is refused, saying why.
+    const misfit = await bench.visitors.builder.request("PUT", url, { faults: [{ kind: "lamp_stuck", element: "fire", lit: true }, { kind: "lamp_inverted", element: "airspeed" }] });
+    expect(misfit.status).toBe(422);
+    expect(misfit.body.error.issues[0].path).toBe("body.faults.1.element");
+    expect(misfit.body.error.issues[0].message).toMatch(/is a pointer; this fault acts on a lamp or button/);
+    const atCreation = await bench.visitors.builder.post(`${base}/runs`, { recordingId, links: [{ kind: "virtual", panelId, faults: [{ kind: "digit_dropped", element: "fire", position: 0 }] }] });
+    expect(atCreation.status).toBe(422);
+    expect(atCreation.body.error.issues[0].path).toBe("body.links.0.faults.0.element");
     const malformed = await bench.visitors.builder.request("PUT", url, { faults: [{ kind: "lamp_inverted" }] });
     expect(malformed.status).toBe(422);
     expect((await bench.visitors.viewer.request("PUT", url, { faults: [] })).status).toBe(403);

@@ -1,6 +1,6 @@
 import { useState } from "react";
 import type { Element } from "../../../shared/elements/kinds";
-import type { Fault } from "../../../shared/virtual/faults";
+import { faultFits, type Fault } from "../../../shared/virtual/faults";
 import { Button, Field, Select } from "../../components/ui";
 import { FAULT_WORDS } from "./words";
 
@@ -36,13 +36,14 @@ export function faultWords(f: Fault): string {
  * run set-up and in the console, where faults change while the run plays.
  */
 export function FaultPicker({ elements, faults, onChange, disabled = false }: { elements: readonly Element[]; faults: Fault[]; onChange: (faults: Fault[]) => void; disabled?: boolean }) {
-  const judged = elements.filter((e) => !e.placeholder);
-  const [faultKind, setFaultKind] = useState<FaultKind>("lamp_stuck");
+  const [faultKind, setFaultKind] = useState<FaultKind>(() => FAULT_KINDS.find((k) => elements.some((e) => faultFits(k, e))) ?? "disconnect");
+  // Only what the chosen fault acts on (a lamp fault on a pointer would change nothing).
+  const fitting = elements.filter((e) => faultFits(faultKind, e));
   const [element, setElement] = useState("");
   const [lit, setLit] = useState(true);
   const [breaker, setBreaker] = useState<"in" | "pulled" | "tripped">("pulled");
   const [numbers, setNumbers] = useState<Record<string, number>>({});
-  const chosenElement = element || judged[0]?.id || "";
+  const chosenElement = fitting.some((e) => e.id === element) ? element : (fitting[0]?.id ?? "");
 
   const addFault = () => {
     const nums = Object.fromEntries(FAULT_NUMBERS[faultKind].map((n) => [n.key, numbers[`${faultKind}.${n.key}`] ?? n.value]));
@@ -72,7 +73,7 @@ export function FaultPicker({ elements, faults, onChange, disabled = false }: { 
       )}
       <div className="flex flex-wrap items-end gap-3">
         <Select label="Fault" value={faultKind} onChange={(e) => setFaultKind(e.target.value as FaultKind)} disabled={disabled}>
-          {FAULT_KINDS.map((k) => (
+          {FAULT_KINDS.filter((k) => elements.some((e) => faultFits(k, e))).map((k) => (
             <option key={k} value={k}>
               {FAULT_WORDS[k]}
             </option>
@@ -80,7 +81,8 @@ export function FaultPicker({ elements, faults, onChange, disabled = false }: { 
         </Select>
         {faultKind !== "disconnect" && (
           <Select label="Element" value={chosenElement} onChange={(e) => setElement(e.target.value)} disabled={disabled}>
-            {judged.map((e) => (
+            {fitting.length === 0 && <option value="">no element this fault acts on</option>}
+            {fitting.map((e) => (
               <option key={e.id} value={e.id}>
                 {e.label} ({e.id})
               </option>
