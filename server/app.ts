@@ -1,3 +1,4 @@
+import { preloadsFor } from "./preloads";
 import path from "node:path";
 import express, { type RequestHandler } from "express";
 import { toNodeHandler } from "better-auth/node";
@@ -71,7 +72,11 @@ export function createApp(services: Services, options: AppOptions) {
     const dir = path.resolve(options.clientDir);
     app.use(express.static(dir, { index: false, maxAge: "1h" }));
     // Client routes (React Router) all load the same page.
-    app.get("/{*splat}", (_req, res) => res.sendFile(path.join(dir, "index.html"), { maxAge: 0 }));
+    app.get("/{*splat}", (req, res) => {
+      const preloads = preloadsFor(req.path);
+      if (preloads.length) res.set("link", preloads.map((p) => `<${p}>; rel=preload; as=fetch; crossorigin=anonymous`).join(", "));
+      res.sendFile(path.join(dir, "index.html"), { maxAge: 0 });
+    });
   }
   app.use(errorHandler);
   return app;

@@ -100,7 +100,7 @@ const elementKey = (panelId: string, elementId: string) => `${panelId}\u0000${el
 
 /** The JSON export (docs/run-report.md) as objects: for JUnit XML and the e-mailed summary. */
 export async function exportOf(db: Database, row: RunRow, runs: RunManager) {
-  const mismatches = await mismatchRowsOf(db, row.id);
+  const [mismatches, parts] = await Promise.all([mismatchRowsOf(db, row.id), reportPartsOf(db, row, runs)]);
   // Grouped in one pass: filtering the whole list once per element was quadratic (10,000 x 200).
   const byElement = new Map<string, ElementMismatch[]>();
   for (const { panelId, elementId, ...m } of mismatches) {
@@ -109,7 +109,7 @@ export async function exportOf(db: Database, row: RunRow, runs: RunManager) {
     if (list) list.push(m);
     else byElement.set(key, [m]);
   }
-  return reportOf<ElementMismatch[]>(db, row, runs, mismatches.length, (panelId, elementId) => byElement.get(elementKey(panelId, elementId)) ?? []);
+  return reportOf<ElementMismatch[]>(row, parts, mismatches.length, (panelId, elementId) => byElement.get(elementKey(panelId, elementId)) ?? []);
 }
 
 /**
@@ -122,14 +122,14 @@ export async function exportOf(db: Database, row: RunRow, runs: RunManager) {
  * hides the maker); it must keep the mismatch lists as they are.
  */
 export async function exportJsonOf(db: Database, row: RunRow, runs: RunManager, shape: (report: ExportedReport<unknown>) => object = (r) => r): Promise<string> {
-  const lists = await mismatchJsonOf(db, row.id);
+  const [lists, dbParts] = await Promise.all([mismatchJsonOf(db, row.id), reportPartsOf(db, row, runs)]);
   let count = 0;
   for (const list of lists.values()) count += list.count;
   // Each list stands in the report as a string no report can otherwise hold (a fresh random
   // mark), replaced by the list's JSON once the rest is written.
   const mark = `\u0001mismatches:${randomUUID()}:`;
   const spliced: string[] = [];
-  const report = await reportOf<string | []>(db, row, runs, count, (panelId, elementId) => {
+  const report = reportOf<string | []>(row, dbParts, count, (panelId, elementId) => {
     const list = lists.get(elementKey(panelId, elementId));
     if (!list) return [];
     spliced.push(list.json);
@@ -159,10 +159,15 @@ async function mismatchJsonOf(db: Database, runId: string): Promise<Map<string, 
 }
 
 /** The export with each element's mismatches as `M`. */
-export type ExportedReport<M> = Awaited<ReturnType<typeof reportOf<M>>>;
+export type ExportedReport<M> = ReturnType<typeof reportOf<M>>;
 
-async function reportOf<M>(db: Database, row: RunRow, runs: RunManager, mismatchCount: number, mismatchesOf: (panelId: string, elementId: string) => M) {
-  const detail = await detailOf(db, row, runs);
+/** What the export reads from the database beside the mismatches; asked side by side with them. */
+async function reportPartsOf(db: Database, row: RunRow, runs: RunManager) {
+  const [detail, createdBy] = await Promise.all([detailOf(db, row, runs), creatorNameOf(db, row.createdById)]);
+  return { detail, createdBy };
+}
+
+function reportOf<M>(row: RunRow, { detail, createdBy }: Awaited<ReturnType<typeof reportPartsOf>>, mismatchCount: number, mismatchesOf: (panelId: string, elementId: string) => M) {
   const fromMs = row.segment?.fromMs ?? 0;
   return {
     format: REPORT_FORMAT,
@@ -178,7 +183,7 @@ async function reportOf<M>(db: Database, row: RunRow, runs: RunManager, mismatch
       judgedFromMs: fromMs,
       positionMs: detail.positionMs,
       durationMs: row.durationMs,
-      createdBy: await creatorNameOf(db, row.createdById),
+      createdBy,
       createdAt: detail.createdAt,
       finishedAt: detail.finishedAt,
       judgedAt: row.judgedAt?.toISOString() ?? null,
