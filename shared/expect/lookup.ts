@@ -16,12 +16,8 @@ export function valueAt<V>(changes: readonly Change<V>[], t: number): V | undefi
   return found < 0 ? undefined : changes[found].shows;
 }
 
-/**
- * A pointer's angle at `t`, read linearly between the track's points. At a jump (two points at one
- * instant) the later point counts. Before the first point: undefined; after the last: its angle.
- */
-export function angleAt(track: AngleTrack, t: number): number | undefined {
-  const times = track.t;
+/** Index of the last of `times` (ascending) at or before `t`, or -1 when all are later. */
+export function lastAtOrBefore(times: ArrayLike<number>, t: number): number {
   let lo = 0;
   let hi = times.length - 1;
   let found = -1;
@@ -32,6 +28,16 @@ export function angleAt(track: AngleTrack, t: number): number | undefined {
       lo = mid + 1;
     } else hi = mid - 1;
   }
+  return found;
+}
+
+/**
+ * A pointer's angle at `t`, read linearly between the track's points. At a jump (two points at one
+ * instant) the later point counts. Before the first point: undefined; after the last: its angle.
+ */
+export function angleAt(track: AngleTrack, t: number): number | undefined {
+  const times = track.t;
+  const found = lastAtOrBefore(times, t);
   if (found < 0) return undefined;
   let angle = track.angle[found];
   if (found + 1 < times.length && times[found + 1] > times[found]) {

@@ -1,4 +1,4 @@
-import { valueAt } from "./lookup";
+import { lastAtOrBefore, valueAt } from "./lookup";
 import type { AngleTrack, Change, DiscreteTracks, ElementTimeline, ExpectedTimelines } from "./types";
 
 /**
@@ -31,21 +31,6 @@ function changesWithin<V>(changes: readonly Change<V>[], fromMs: number, toMs: n
   if (first !== undefined) out.push({ t: fromMs, shows: first });
   for (const c of changes) if (c.t > fromMs && c.t < toMs) out.push(c);
   return out;
-}
-
-/** Index of the last point at or before `t`, or -1. */
-function lastAtOrBefore(times: readonly number[], t: number): number {
-  let lo = 0;
-  let hi = times.length - 1;
-  let found = -1;
-  while (lo <= hi) {
-    const mid = (lo + hi) >> 1;
-    if (times[mid] <= t) {
-      found = mid;
-      lo = mid + 1;
-    } else hi = mid - 1;
-  }
-  return found;
 }
 
 /** The travel angle at `t` (turns kept for full-circle pointers), the later point at a jump. */
