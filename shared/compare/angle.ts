@@ -24,7 +24,14 @@ const RECHECK_MS = 25;
  * judging meet the same instants.
  */
 export class AngleTrackJudge {
-  /** Reports held before judging up to the newest and forgetting the ones behind (tests vary it). */
+  /**
+   * Reports held before judging up to the newest (reports of one pointer come in time order, so
+   * none earlier can still arrive); advancing forgets the reports behind the one held at the
+   * cursor. A pointer keeps a few thousand reports instead of an hour's 72,000, which the garbage
+   * collector otherwise copied and marked again and again (DEVELOPERS.md, "Runs"). Advancing at any
+   * instant gives the same result as at the end (the cut-short rule below); a property test
+   * compares the two. Tests vary it.
+   */
   static keepSeen = 4096;
   private readonly sweep: MismatchSweep;
   // Two flat number arrays rather than an object per report: a run holds millions of reports.
@@ -59,7 +66,7 @@ export class AngleTrackJudge {
     else {
       this.seenT.push(t);
       this.seenAngle.push(angle);
-      if (n + 1 >= AngleTrackJudge.keepSeen) this.judgeUpTo(t);
+      if (n + 1 >= AngleTrackJudge.keepSeen) this.advance(t);
     }
   }
 
@@ -194,23 +201,6 @@ export class AngleTrackJudge {
     return b;
   }
 
-  /**
-   * Judges everything before `t` (a report's instant: reports of one pointer come in time order, so
-   * none earlier can still arrive) and forgets the reports no longer needed, keeping the one held
-   * at the cursor. Judged as it goes, a pointer keeps a few thousand reports instead of an hour's
-   * 72,000, which the garbage collector otherwise copied and marked again and again
-   * (docs/judging.md, "Speed"). Advancing at any instant gives the same result as at the end (the
-   * cut-short rule below); a property test compares the two.
-   */
-  private judgeUpTo(t: number) {
-    this.advance(t);
-    const drop = this.seenIndex;
-    if (drop <= 0) return;
-    this.seenT.splice(0, drop);
-    this.seenAngle.splice(0, drop);
-    this.seenIndex = 0;
-  }
-
   /** True when the last advance stopped between two instants: the verdict made before still holds. */
   private cutShort = false;
 
@@ -256,6 +246,12 @@ export class AngleTrackJudge {
       this.cursor = b;
       this.cutShort = b < natural;
     }
+    // Reports behind the one held at the cursor are never read again.
+    if (this.seenIndex >= forgetAfter(AngleTrackJudge.keepSeen)) {
+      this.seenT.splice(0, this.seenIndex);
+      this.seenAngle.splice(0, this.seenIndex);
+      this.seenIndex = 0;
+    }
   }
 
   finish(endMs: number): Mismatch[] {
@@ -279,3 +275,6 @@ export class AngleTrackJudge {
 }
 
 const round = (n: number) => Math.round(n * 10) / 10;
+
+/** How many consumed reports a judge lets pile up before it forgets them (a quarter of what it holds). */
+export const forgetAfter = (keepSeen: number) => Math.max(1, keepSeen >> 2);

@@ -1,3 +1,4 @@
+import { forgetAfter } from "./angle";
 import type { Change } from "../expect/types";
 import { MismatchSweep, type Piece } from "./sweep";
 import type { JudgedTrack, LinkGap, Mismatch } from "./types";
@@ -14,6 +15,12 @@ export interface DiscreteRules<V> {
  * reports arrive. `advance(t)` settles everything before `t`; `finish(end)` settles the rest.
  */
 export class DiscreteTrackJudge<V> {
+  /**
+   * Reports held before judging up to the newest; advancing forgets those behind the one held at
+   * the cursor (as AngleTrackJudge does): a live run's reports die young instead of piling up
+   * for the collector to copy. Tests vary it.
+   */
+  static keepSeen = 4096;
   private readonly sweep: MismatchSweep;
   private readonly seen: Change<V>[] = [];
   private readonly gaps: LinkGap[] = [];
@@ -41,7 +48,10 @@ export class DiscreteTrackJudge<V> {
     if (last && t < last.t) throw new RangeError(`seen reports must come in time order (${t} after ${last.t})`);
     if (t < this.cursor) throw new RangeError(`a report at ${t} ms is older than what was already judged (${this.cursor} ms)`);
     if (last && last.t === t) last.shows = value;
-    else this.seen.push({ t, shows: value });
+    else {
+      this.seen.push({ t, shows: value });
+      if (this.seen.length >= DiscreteTrackJudge.keepSeen) this.advance(t);
+    }
   }
 
   addGap(gap: LinkGap) {
@@ -105,6 +115,11 @@ export class DiscreteTrackJudge<V> {
         });
       }
       this.cursor = b;
+    }
+    // Reports behind the one held at the cursor are never read again.
+    if (this.seenIndex >= forgetAfter(DiscreteTrackJudge.keepSeen)) {
+      this.seen.splice(0, this.seenIndex);
+      this.seenIndex = 0;
     }
   }
 

@@ -2,6 +2,7 @@ import fc from "fast-check";
 import { quantileSorted } from "simple-statistics";
 import { describe, expect, it } from "vitest";
 import { AngleTrackJudge } from "../../../shared/compare/angle";
+import { DiscreteTrackJudge } from "../../../shared/compare/discrete";
 import { ElementJudge, RunJudge, judgeOffline } from "../../../shared/compare/judge";
 import { quantileOfSorted } from "../../../shared/compare/statistics";
 import type { SeenSample, Tolerances } from "../../../shared/compare/types";
@@ -218,21 +219,34 @@ describe("live judging equals offline judging", () => {
     );
   });
 
-  it("a pointer's judge that judges as it goes and forgets old reports gives what one holding them all gives", () => {
+  it("judges that judge as they go and forget old reports give what judges holding them all give, offline and live", () => {
+    const setKeep = (n: number) => {
+      AngleTrackJudge.keepSeen = n;
+      DiscreteTrackJudge.keepSeen = n;
+    };
     fc.assert(
-      fc.property(arbitrarySeen, fc.integer({ min: 2, max: 9 }), (raw, keep) => {
+      fc.property(arbitrarySeen, fc.integer({ min: 2, max: 9 }), fc.array(fc.integer({ min: 0, max: 6000 }), { maxLength: 10 }), (raw, keep, cuts) => {
         const samples = toSamples(raw);
-        const kept = AngleTrackJudge.keepSeen;
+        const kept = [AngleTrackJudge.keepSeen, DiscreteTrackJudge.keepSeen] as const;
         try {
-          AngleTrackJudge.keepSeen = Infinity;
+          setKeep(Infinity);
           const holdingAll = judgeOffline(timelines, samples, [], tolerances);
-          AngleTrackJudge.keepSeen = keep;
+          setKeep(keep);
           expect(judgeOffline(timelines, samples, [], tolerances)).toEqual(holdingAll);
+          const live = new RunJudge(timelines, tolerances);
+          let i = 0;
+          for (const stop of [...cuts].sort((a, b) => a - b)) {
+            while (i < samples.length && samples[i].sample.t < stop) live.addSeen(samples[i].elementId, samples[i++].sample);
+            live.advance(stop);
+          }
+          while (i < samples.length) live.addSeen(samples[i].elementId, samples[i++].sample);
+          expect(live.finish()).toEqual(holdingAll);
         } finally {
-          AngleTrackJudge.keepSeen = kept;
+          AngleTrackJudge.keepSeen = kept[0];
+          DiscreteTrackJudge.keepSeen = kept[1];
         }
       }),
-      { numRuns: 150 },
+      { numRuns: 200 },
     );
   });
 
