@@ -1,6 +1,7 @@
 import { readFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
 import { expect, test } from "@playwright/test";
+import sharp from "sharp";
 import { airframeWith, importedRecording, ownerOfNewWorkshop, panelFrom } from "./support";
 import { demoChannels } from "../../shared/panel/demo/airframe";
 import { warningPanel } from "../../shared/panel/demo/panels";
@@ -9,7 +10,8 @@ import { warningPanel } from "../../shared/panel/demo/panels";
  * Runs in the browser (issues 5 and 6): a builder sets up a run of the demo flight into the
  * warning panel over a virtual link with two injected faults, plays it to the end in the console
  * while this browser plays the panel, sees exactly the two faulty elements marked and listed,
- * shares the report (opened in a fresh, signed-out context) and downloads the JUnit file.
+ * shares the report (opened in a fresh, signed-out context) and downloads the JUnit file. The two are
+ * also marked on the photo of the real panel, at their markers.
  */
 
 const DEMO_FLIGHT = fileURLToPath(new URL("../../recordings/demo-pattern-flight.ppr.jsonl", import.meta.url));
@@ -23,6 +25,11 @@ test("a builder replays a flight into a virtual panel with two faults, sees them
   const airframeId = await airframeWith(page, api, "Marlin TX-2 (invented twin)", demoChannels);
   await importedRecording(page, api, airframeId, "Pattern flight", readFileSync(DEMO_FLIGHT), { addDraftChannels: true });
   const panelId = await panelFrom(page, api, airframeId, warningPanel);
+  // A photo of the real panel with markers on the two elements the faults will hit, and one more.
+  const photo = await sharp(Buffer.from(`<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="400"><rect width="1200" height="400" fill="#2a2f34"/></svg>`)).png().toBuffer();
+  expect((await page.request.put(`${api}/panels/${panelId}/photo`, { headers: { "content-type": "image/png" }, data: photo })).status()).toBe(200);
+  const markers = { "fire-left": { x: 0.2, y: 0.5 }, "gen-fail": { x: 0.5, y: 0.5 }, "fire-right": { x: 0.8, y: 0.5 } };
+  expect((await page.request.put(`${api}/panels/${panelId}/markers`, { data: { markers } })).status()).toBe(200);
 
   // Set up the run through the UI: virtual link, two faults on two elements, speed 8.
   await page.getByRole("navigation", { name: "Workshop" }).getByRole("link", { name: "Runs" }).click();
@@ -61,6 +68,15 @@ test("a builder replays a flight into a virtual panel with two faults, sees them
   await expect(page.locator('[data-testid^="fail-mark-"]')).toHaveCount(2);
   await expect(page.getByTestId("fail-mark-fire-left")).toBeAttached();
   await expect(page.getByTestId("fail-mark-gen-fail")).toBeAttached();
+  // The same two on the photo of the real panel: ringed, crossed and labelled at their markers.
+  await page.getByRole("radiogroup", { name: "Show Glareshield warnings as" }).getByRole("radio", { name: "Photo with markers" }).click();
+  await expect(page.getByRole("img", { name: "Photo of Glareshield warnings" })).toBeVisible();
+  await expect(page.getByTestId("photo-fail-fire-left")).toContainText("✕ FAIL FIRE L");
+  await expect(page.getByTestId("photo-fail-gen-fail")).toContainText("✕ FAIL GEN");
+  await expect(page.getByTestId("photo-mark-fire-right")).toBeAttached();
+  await expect(page.locator('[data-testid^="photo-fail-"]')).toHaveCount(2);
+  // SHOTS=/some/folder keeps a picture of it.
+  if (process.env.SHOTS) await page.getByTestId("panel-photo-live").screenshot({ path: `${process.env.SHOTS}/runs-photo-marks.png` });
   const table = page.getByRole("table", { name: "Mismatches" });
   await expect
     .poll(() => table.locator("tbody tr[data-element]").evaluateAll((rows) => [...new Set(rows.map((r) => r.getAttribute("data-element")))].sort()), { timeout: 15_000 })

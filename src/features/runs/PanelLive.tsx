@@ -5,7 +5,8 @@ import type { ExpectedState } from "../../../shared/expect";
 import type { Fault } from "../../../shared/virtual/faults";
 import type { HeldInput } from "../../../shared/virtual/panel-device";
 import { PanelDrawing, arrange } from "../../components/PanelDrawing";
-import { usePanel } from "../panels/queries";
+import { photoUrl, usePanel } from "../panels/queries";
+import { PanelPhotoMarks } from "./PanelPhotoMarks";
 import { useAirframe } from "../recordings/queries";
 import { elementKey } from "./live";
 import { BrowserPanel, hostInBrowser, type BrowserLinkState } from "./virtual-panel";
@@ -56,6 +57,8 @@ export function PanelLive({
   const [closeReason, setCloseReason] = useState<string | null>(null);
   const [states, setStates] = useState<Record<string, ExpectedState> | undefined>(undefined);
   const [held, setHeld] = useState<Record<string, HeldInput>>({});
+  // The panel as drawn, or the builder's photo of the real one with markers (when it has both).
+  const [view, setView] = useState<"drawing" | "photo">("drawing");
   const virtual = kind === "virtual";
   const faultKey = JSON.stringify(faults);
   // Another window of this browser may play the panel (its own window beside the console): then it holds the link.
@@ -102,6 +105,7 @@ export function PanelLive({
   if (!definition || !arrangement) return <p className="text-sm text-ink-soft">Reading the panel…</p>;
 
   const failing = definition.elements.filter((e) => statuses[elementKey(panelId, e.id)] === "fail");
+  const photoMarkers = definition.photo?.photoKey ? definition.photo.markers : null;
   const a = arrangement;
   if (definition.elements.length === 0 && !definition.layout) Object.assign(a, { width: 240, height: 50, cell: 44 });
   const pad = a.cell * 0.7;
@@ -130,6 +134,31 @@ export function PanelLive({
             : `Injected: ${faults.map((f) => `▲ ${FAULT_WORDS[f.kind]}${"element" in f ? ` on ${f.element}` : ` ${f.fromMs}–${f.toMs} ms`}`).join(" · ")}`}
         </p>
       )}
+      {photoMarkers && (
+        <div className="flex gap-1 text-xs" role="radiogroup" aria-label={`Show ${definition.name} as`}>
+          {(["drawing", "photo"] as const).map((v) => (
+            <button
+              key={v}
+              type="button"
+              role="radio"
+              aria-checked={view === v}
+              onClick={() => setView(v)}
+              className={`rounded-md border px-2.5 py-1 font-semibold ${view === v ? "border-bezel bg-bezel text-dial" : "border-rule bg-card"}`}
+            >
+              {v === "drawing" ? "Drawing" : "Photo with markers"}
+            </button>
+          ))}
+        </div>
+      )}
+      {photoMarkers && view === "photo" && panel.data ? (
+        <PanelPhotoMarks
+          src={photoUrl(workshopId, panelId, panel.data.updatedAt)}
+          name={panel.data.name}
+          elements={definition.elements}
+          markers={photoMarkers}
+          failing={new Set(failing.map((e) => e.id))}
+        />
+      ) : (
       <div className="relative">
         <PanelDrawing panel={definition} states={elsewhere ? elsewhere.states : virtual ? states : undefined} title={`${definition.name} as it shows now`} className="block" />
         <svg viewBox={vb} className="pointer-events-none absolute inset-0 h-full w-full" aria-hidden="true">
@@ -142,6 +171,7 @@ export function PanelLive({
           })}
         </svg>
       </div>
+      )}
       {device && <HandControls elements={definition.elements} held={held} states={states} onMove={move} />}
       {device && <HandButtons buttons={definition.elements.filter((e): e is ButtonElement => e.kind === "button" && !e.placeholder)} onPress={(el, pressed) => device.pressButton(el.id, pressed)} />}
       {observed.length > 0 && (
