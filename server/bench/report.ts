@@ -1,4 +1,5 @@
 import { randomUUID } from "node:crypto";
+import { elementKey, mismatchJsonOf } from "./mismatch-json";
 import { and, asc, eq, sql, type SQL } from "drizzle-orm";
 import type { MismatchView, RunDetail, RunSummary } from "../../shared/api/runs";
 import type { ElementStatus, MismatchKind } from "../../shared/compare/types";
@@ -96,7 +97,6 @@ export async function detailOf(db: Database, row: RunRow, runs: RunManager): Pro
 
 /** The JSON export (docs/run-report.md): the whole report in one document. */
 type ElementMismatch = Omit<MismatchView, "panelId" | "elementId">;
-const elementKey = (panelId: string, elementId: string) => `${panelId}\u0000${elementId}`;
 
 /** The JSON export (docs/run-report.md) as objects: for JUnit XML and the e-mailed summary. */
 export async function exportOf(db: Database, row: RunRow, runs: RunManager) {
@@ -122,7 +122,7 @@ export async function exportOf(db: Database, row: RunRow, runs: RunManager) {
  * hides the maker); it must keep the mismatch lists as they are.
  */
 export async function exportJsonOf(db: Database, row: RunRow, runs: RunManager, shape: (report: ExportedReport<unknown>) => object = (r) => r): Promise<string> {
-  const [lists, dbParts] = await Promise.all([mismatchJsonOf(db, row.id), reportPartsOf(db, row, runs)]);
+  const [lists, dbParts] = await Promise.all([mismatchJsonOf(db, row.id, row.judgedAt), reportPartsOf(db, row, runs)]);
   let count = 0;
   for (const list of lists.values()) count += list.count;
   // Each list stands in the report as a string no report can otherwise hold (a fresh random
@@ -142,21 +142,6 @@ export async function exportJsonOf(db: Database, row: RunRow, runs: RunManager, 
 }
 
 const escapeRegExp = (text: string) => text.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
-
-/** Per element, its mismatches as a JSON array in export order (start, then id), and how many. */
-async function mismatchJsonOf(db: Database, runId: string): Promise<Map<string, { json: string; count: number }>> {
-  const result = await db.execute<{ panel_id: string; element_id: string; list: string; count: number }>(sql`
-    select panel_id, element_id, count(*)::int as count,
-      '[' || string_agg(
-        '{"id":"' || id || '","track":' || to_json(track)::text || ',"kind":' || to_json(kind)::text ||
-        ',"startMs":' || to_json(start_ms)::text || ',"endMs":' || to_json(end_ms)::text ||
-        ',"worstError":' || to_json(worst_error)::text || ',"expected":' || to_json(expected)::text ||
-        ',"seen":' || to_json(seen)::text || ',"atMs":' || to_json(at_ms)::text || '}',
-        ',' order by start_ms, id) || ']' as list
-    from mismatch where run_id = ${runId}
-    group by panel_id, element_id`);
-  return new Map(result.rows.map((r) => [elementKey(r.panel_id, r.element_id), { json: r.list, count: r.count }]));
-}
 
 /** The export with each element's mismatches as `M`. */
 export type ExportedReport<M> = ReturnType<typeof reportOf<M>>;

@@ -10,6 +10,7 @@ import type { Frame } from "../../shared/recording/frames";
 import type pg from "pg";
 import type { Database } from "../db/client";
 import { copyField, copyFrom, withClientTransaction } from "../db/copy";
+import { warmMismatchJson } from "./mismatch-json";
 import { mismatch, recording, run, runElementResult, seenLog } from "../db/schema";
 void mismatch;
 import type { DbOrTx } from "../recordings/writer";
@@ -86,6 +87,7 @@ export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<To
 export async function storeJudgement(db: Database, runId: string, panels: PanelJudgement[], batch = 1000): Promise<void> {
   const counts = { ...EMPTY_COUNTS };
   let mismatchTotal = 0;
+  const judgedAt = new Date();
   await withClientTransaction(db, async (tx, client) => {
     await tx.delete(mismatch).where(eq(mismatch.runId, runId));
     await tx.delete(runElementResult).where(eq(runElementResult.runId, runId));
@@ -111,8 +113,10 @@ export async function storeJudgement(db: Database, runId: string, panels: PanelJ
       await copyMismatches(client, runId, p.panelId, p.judgement.mismatches);
     }
     const lag = summarizeLagsOf(panels);
-    await tx.update(run).set({ counts, mismatchCount: mismatchTotal, lag, judgedAt: new Date() }).where(eq(run.id, runId));
+    await tx.update(run).set({ counts, mismatchCount: mismatchTotal, lag, judgedAt }).where(eq(run.id, runId));
   });
+  // The report of this judgement will be asked for: its mismatch lists are read now.
+  warmMismatchJson(db, runId, judgedAt);
 }
 
 /**

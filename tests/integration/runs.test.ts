@@ -140,6 +140,9 @@ describe("a run into a virtual panel driven by the device emulator over the WebS
     await db.insert(mismatchTable).values(
       odd.map((text, i) => ({ runId: healthyRun, panelId, elementId: i % 2 ? "airspeed" : "fire", track: i % 2 ? "angle" : "lamp", kind: "wrong_value", startMs: 100 * i + 0.5, endMs: 100 * i + 50.25, worstError: i === 3 ? 1e-7 : 12.3456789, expected: text, seen: `${text}!`, atMs: 100 * i + 7 })),
     );
+    // Mismatches change only with a judgement, which stamps judgedAt (the server keeps each
+    // judgement's mismatch lists): stamp one, as storing a judgement does.
+    await db.update(runTable).set({ judgedAt: new Date() }).where(eq(runTable.id, healthyRun));
     const [row] = await db.select().from(runTable).where(eq(runTable.id, healthyRun));
     const text = await getText(bench.visitors.viewer, `${base}/runs/${healthyRun}/export.json`);
     expect(text.status).toBe(200);
@@ -148,6 +151,7 @@ describe("a run into a virtual panel driven by the device emulator over the WebS
     expect(JSON.parse(text.text)).toEqual(JSON.parse(JSON.stringify(await exportOf(db, row, bench.server.services.runs))));
     expect(JSON.parse(text.text).panels[0].elements.find((e: { elementId: string }) => e.elementId === "fire").mismatches.map((m: { expected: string }) => m.expected)).toEqual([odd[0], odd[2]]);
     await db.delete(mismatchTable).where(eq(mismatchTable.runId, healthyRun));
+    await db.update(runTable).set({ judgedAt: new Date(Date.now() + 1) }).where(eq(runTable.id, healthyRun));
   });
 
   it("with two injected faults fails exactly those two elements, with the right intervals; rejudging changes results without replaying", async () => {
@@ -190,9 +194,14 @@ describe("a run into a virtual panel driven by the device emulator over the WebS
     expect(rejudged.body.counts.fail).toBe(0);
     expect(rejudged.body.mismatchCount).toBe(0);
     expect(rejudged.body.positionMs).toBe(8000);
+    // The export follows the new judgement (the server keeps mismatch lists per judgement).
+    const mismatchesIn = async () => (await bench.visitors.viewer.get(`${base}/runs/${runId}/export.json`)).body.panels[0].elements.reduce((n: number, e: { mismatches: unknown[] }) => n + e.mismatches.length, 0);
+    expect(await mismatchesIn()).toBe(0);
     // And back: the same stored log gives the same two failures.
     const again = await bench.visitors.builder.post(`${base}/runs/${runId}/rejudge`, TEST_TOLERANCE);
     expect(again.body.counts).toMatchObject({ pass: 3, fail: 2 });
+    expect(await mismatchesIn()).toBe(again.body.mismatchCount);
+    expect(again.body.mismatchCount).toBeGreaterThan(0);
   }, 40_000);
 
   it("a link that drops mid-run gives no data for the gap, shows it to watchers, and resumes", async () => {
