@@ -30,7 +30,7 @@ import { sharePolicy } from "../policies/share";
 import { elementRowsOf, exportOf, recordingNameOf, summaryOf } from "../bench/report";
 import { EMPTY_COUNTS, loadRecording, seenLogOf } from "../bench/store";
 import { runReportMail } from "../mail/templates";
-import { hashShareToken } from "./runs";
+import { hashShareToken, sharedRunOf } from "./shared-link";
 
 type RunRow = typeof run.$inferSelect;
 
@@ -319,22 +319,7 @@ function sharedReportExtrasRouter(services: Services) {
   const router = Router();
 
   async function sharedRun(req: Request, res: Response): Promise<RunRow | null> {
-    const token = z.string().min(10).max(100).safeParse(req.params.token);
-    if (!token.success) throw notFound("No such shared report.");
-    const [link] = await db.select().from(shareLink).where(eq(shareLink.tokenHash, hashShareToken(token.data)));
-    if (!link) throw notFound("No such shared report.");
-    res.set("cache-control", "no-store");
-    if (link.revokedAt) {
-      res.status(410).json({ error: { code: "revoked", message: "This share link was revoked by the workshop." } });
-      return null;
-    }
-    if (link.expiresAt.getTime() <= Date.now()) {
-      res.status(410).json({ error: { code: "expired", message: `This share link expired on ${link.expiresAt.toISOString()}.` } });
-      return null;
-    }
-    const [row] = await db.select().from(run).where(eq(run.id, link.runId));
-    if (!row) throw notFound("No such shared report.");
-    return row;
+    return (await sharedRunOf(db, req.params.token, res))?.row ?? null;
   }
 
   router.get("/:token/expected", async (req, res) => {

@@ -1,4 +1,4 @@
-import { createHash, randomBytes, randomUUID } from "node:crypto";
+import { randomBytes, randomUUID } from "node:crypto";
 import { Router, type Request } from "express";
 import { and, desc, eq, inArray } from "drizzle-orm";
 import { z } from "zod";
@@ -15,6 +15,7 @@ import {
 } from "../../shared/api/runs";
 import { entityId } from "../../shared/api/workshops";
 import { faultProblem } from "../../shared/virtual/faults";
+import { hashShareToken, sharedRunOf } from "./shared-link";
 import { panel, recording, run, shareLink } from "../db/schema";
 import type { RunPanelSnapshot } from "../db/runs-schema";
 import { requireActor, requireMembership, type Services } from "../http/context";
@@ -33,10 +34,6 @@ const shareParams = z.object({ workshopId: entityId, runId: entityId, shareId: e
 const linkParams = z.object({ workshopId: entityId, runId: entityId, panelId: entityId });
 const listQuery = z.object({ panelId: entityId.optional(), recordingId: entityId.optional() }).strict();
 
-/** SHA-256 of a share token, hex: what the database keeps instead of the token. */
-export function hashShareToken(token: string): string {
-  return createHash("sha256").update(token, "utf8").digest("hex");
-}
 
 const invalid = (path: string, message: string) => new HttpError("validation_failed", `${path}: ${message}`, [{ path, message }]);
 
@@ -422,23 +419,11 @@ export function sharedRouter(services: Services) {
   const { db, runs } = services;
   const router = Router();
   router.get("/:token", async (req, res) => {
-    const token = z.string().min(10).max(100).safeParse(req.params.token);
-    if (!token.success) throw notFound("No such shared report.");
-    const [link] = await db.select().from(shareLink).where(eq(shareLink.tokenHash, hashShareToken(token.data)));
-    if (!link) throw notFound("No such shared report.");
-    res.set("cache-control", "no-store");
-    if (link.revokedAt) {
-      res.status(410).json({ error: { code: "revoked", message: "This share link was revoked by the workshop." } });
-      return;
-    }
-    if (link.expiresAt.getTime() <= Date.now()) {
-      res.status(410).json({ error: { code: "expired", message: `This share link expired on ${link.expiresAt.toISOString()}.` } });
-      return;
-    }
-    const [row] = await db.select().from(run).where(eq(run.id, link.runId));
-    if (!row) throw notFound("No such shared report.");
+    const shared = await sharedRunOf(db, req.params.token, res);
+    if (!shared) return;
+    const { row, expiresAt } = shared;
     // The report without who made it: a public page names no workshop member.
-    const hideMaker = (report: ExportedReport<unknown>) => ({ ...report, run: { ...report.run, createdBy: null }, sharedUntil: link.expiresAt.toISOString() });
+    const hideMaker = (report: ExportedReport<unknown>) => ({ ...report, run: { ...report.run, createdBy: null }, sharedUntil: expiresAt.toISOString() });
     res.type("json").send(await exportJsonOf(db, row, runs, hideMaker));
   });
   return router;
