@@ -1,4 +1,5 @@
 import type { AngleTrack } from "../expect/types";
+import { forgetAfter, seenMemory } from "./seen-memory";
 import { MismatchSweep, type Piece } from "./sweep";
 import type { LinkGap, Mismatch } from "./types";
 
@@ -24,15 +25,6 @@ const RECHECK_MS = 25;
  * judging meet the same instants.
  */
 export class AngleTrackJudge {
-  /**
-   * Reports held before judging up to the newest (reports of one pointer come in time order, so
-   * none earlier can still arrive); advancing forgets the reports behind the one held at the
-   * cursor. A pointer keeps a few thousand reports instead of an hour's 72,000, which the garbage
-   * collector otherwise copied and marked again and again (DEVELOPERS.md, "Runs"). Advancing at any
-   * instant gives the same result as at the end (the cut-short rule below); a property test
-   * compares the two. Tests vary it.
-   */
-  static keepSeen = 4096;
   private readonly sweep: MismatchSweep;
   // Two flat number arrays rather than an object per report: a run holds millions of reports.
   private readonly seenT: number[] = [];
@@ -66,7 +58,7 @@ export class AngleTrackJudge {
     else {
       this.seenT.push(t);
       this.seenAngle.push(angle);
-      if (n + 1 >= AngleTrackJudge.keepSeen) this.advance(t);
+      if (n + 1 >= seenMemory.keep) this.advance(t);
     }
   }
 
@@ -247,7 +239,7 @@ export class AngleTrackJudge {
       this.cutShort = b < natural;
     }
     // Reports behind the one held at the cursor are never read again.
-    if (this.seenIndex >= forgetAfter(AngleTrackJudge.keepSeen)) {
+    if (this.seenIndex >= forgetAfter()) {
       this.seenT.splice(0, this.seenIndex);
       this.seenAngle.splice(0, this.seenIndex);
       this.seenIndex = 0;
@@ -275,6 +267,3 @@ export class AngleTrackJudge {
 }
 
 const round = (n: number) => Math.round(n * 10) / 10;
-
-/** How many consumed reports a judge lets pile up before it forgets them (a quarter of what it holds). */
-export const forgetAfter = (keepSeen: number) => Math.max(1, keepSeen >> 2);

@@ -1,5 +1,5 @@
-import { forgetAfter } from "./angle";
 import type { Change } from "../expect/types";
+import { forgetAfter, seenMemory } from "./seen-memory";
 import { MismatchSweep, type Piece } from "./sweep";
 import type { JudgedTrack, LinkGap, Mismatch } from "./types";
 
@@ -15,12 +15,6 @@ export interface DiscreteRules<V> {
  * reports arrive. `advance(t)` settles everything before `t`; `finish(end)` settles the rest.
  */
 export class DiscreteTrackJudge<V> {
-  /**
-   * Reports held before judging up to the newest; advancing forgets those behind the one held at
-   * the cursor (as AngleTrackJudge does): a live run's reports die young instead of piling up
-   * for the collector to copy. Tests vary it.
-   */
-  static keepSeen = 4096;
   private readonly sweep: MismatchSweep;
   private readonly seen: Change<V>[] = [];
   private readonly gaps: LinkGap[] = [];
@@ -50,7 +44,7 @@ export class DiscreteTrackJudge<V> {
     if (last && last.t === t) last.shows = value;
     else {
       this.seen.push({ t, shows: value });
-      if (this.seen.length >= DiscreteTrackJudge.keepSeen) this.advance(t);
+      if (this.seen.length >= seenMemory.keep) this.advance(t);
     }
   }
 
@@ -117,7 +111,7 @@ export class DiscreteTrackJudge<V> {
       this.cursor = b;
     }
     // Reports behind the one held at the cursor are never read again.
-    if (this.seenIndex >= forgetAfter(DiscreteTrackJudge.keepSeen)) {
+    if (this.seenIndex >= forgetAfter()) {
       this.seen.splice(0, this.seenIndex);
       this.seenIndex = 0;
     }

@@ -1,8 +1,7 @@
 import fc from "fast-check";
 import { quantileSorted } from "simple-statistics";
 import { describe, expect, it } from "vitest";
-import { AngleTrackJudge } from "../../../shared/compare/angle";
-import { DiscreteTrackJudge } from "../../../shared/compare/discrete";
+import { seenMemory } from "../../../shared/compare/seen-memory";
 import { ElementJudge, RunJudge, judgeOffline } from "../../../shared/compare/judge";
 import { quantileOfSorted } from "../../../shared/compare/statistics";
 import type { SeenSample, Tolerances } from "../../../shared/compare/types";
@@ -221,13 +220,12 @@ describe("live judging equals offline judging", () => {
 
   it("judges that judge as they go and forget old reports give what judges holding them all give, offline and live", () => {
     const setKeep = (n: number) => {
-      AngleTrackJudge.keepSeen = n;
-      DiscreteTrackJudge.keepSeen = n;
+      seenMemory.keep = n;
     };
     fc.assert(
       fc.property(arbitrarySeen, fc.integer({ min: 2, max: 9 }), fc.array(fc.integer({ min: 0, max: 6000 }), { maxLength: 10 }), (raw, keep, cuts) => {
         const samples = toSamples(raw);
-        const kept = [AngleTrackJudge.keepSeen, DiscreteTrackJudge.keepSeen] as const;
+        const kept = seenMemory.keep;
         try {
           setKeep(Infinity);
           const holdingAll = judgeOffline(timelines, samples, [], tolerances);
@@ -242,8 +240,7 @@ describe("live judging equals offline judging", () => {
           while (i < samples.length) live.addSeen(samples[i].elementId, samples[i++].sample);
           expect(live.finish()).toEqual(holdingAll);
         } finally {
-          AngleTrackJudge.keepSeen = kept[0];
-          DiscreteTrackJudge.keepSeen = kept[1];
+          seenMemory.keep = kept;
         }
       }),
       { numRuns: 200 },
