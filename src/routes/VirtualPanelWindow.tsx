@@ -13,7 +13,7 @@ import { useAirframe } from "../features/recordings/queries";
 import { useLiveRun } from "../features/runs/live";
 import { useRunFollowing } from "../features/runs/bench-queries";
 import { announceHosting, ELSEWHERE_EVERY_MS } from "../features/runs/virtual-elsewhere";
-import { BrowserPanel, hostInBrowser, rememberedRunFaults, type BrowserLinkState } from "../features/runs/virtual-panel";
+import { BrowserPanel, hostInBrowser, useDeviceFollowsRun, type BrowserLinkState } from "../features/runs/virtual-panel";
 import { clock, FAULT_WORDS, StateTag } from "../features/runs/words";
 
 const LINK_WORDS: Record<BrowserLinkState, string> = {
@@ -54,8 +54,7 @@ export function VirtualPanelWindow() {
   const finished = run ? run.state === "finished" || run.state === "failed" : false;
   const setting = run?.settings?.find((s) => s.panelId === panelId);
   const isVirtualLink = run ? run.panelIds.includes(panelId) && (setting ? setting.kind === "virtual" : true) : false;
-  const faults: Fault[] = setting && setting.kind === "virtual" ? setting.faults : (rememberedRunFaults(runId, panelId) ?? []);
-  const faultKey = JSON.stringify(faults);
+  const faults: Fault[] = setting && setting.kind === "virtual" ? setting.faults : [];
   const speed = live.player?.speed ?? run?.speed ?? 1;
 
   useEffect(() => {
@@ -84,13 +83,7 @@ export function VirtualPanelWindow() {
     };
   }, [canDrive, isVirtualLink, finished, definition, airframe.data, runId, panelId]);
 
-  // Faults and speed change while the run plays; the panel keeps its connection.
-  useEffect(() => {
-    device?.setFaults(JSON.parse(faultKey) as Fault[]);
-  }, [device, faultKey]);
-  useEffect(() => {
-    if (device) device.speed = speed;
-  }, [device, speed]);
+  useDeviceFollowsRun(device, faults, speed);
 
   if (detail.isPending || panel.isPending) return <Loading what="Opening the virtual panel" />;
   if (detail.error || panel.error) return <ErrorNote error={detail.error ?? panel.error} />;

@@ -9,7 +9,7 @@ import { photoUrl, usePanel } from "../panels/queries";
 import { PanelPhotoMarks } from "./PanelPhotoMarks";
 import { useAirframe } from "../recordings/queries";
 import { elementKey } from "./live";
-import { BrowserPanel, hostInBrowser, type BrowserLinkState } from "./virtual-panel";
+import { BrowserPanel, hostInBrowser, useDeviceFollowsRun, type BrowserLinkState } from "./virtual-panel";
 import { FailMark } from "./FailMark";
 import { useVirtualPanelElsewhere } from "./virtual-elsewhere";
 import { FAULT_WORDS, StatusTag } from "./words";
@@ -60,7 +60,6 @@ export function PanelLive({
   // The panel as drawn, or the builder's photo of the real one with markers (when it has both).
   const [view, setView] = useState<"drawing" | "photo">("drawing");
   const virtual = kind === "virtual";
-  const faultKey = JSON.stringify(faults);
   // Another window of this browser may play the panel (its own window beside the console): then it holds the link.
   const elsewhere = useVirtualPanelElsewhere(runId, panelId);
   const hostHere = virtual && !finished && !elsewhere;
@@ -84,14 +83,7 @@ export function PanelLive({
     };
   }, [hostHere, definition, airframe.data, runId, panelId]);
 
-  // Faults change while the run plays: the panel keeps its link and applies them from now on.
-  useEffect(() => {
-    device?.setFaults(JSON.parse(faultKey) as Fault[]);
-  }, [device, faultKey]);
-
-  useEffect(() => {
-    if (device) device.speed = speed;
-  }, [device, speed]);
+  useDeviceFollowsRun(device, faults, speed);
 
   /** The builder's hand on this browser's panel: the input rests there and the link says so. */
   const move = (el: Element, to: HeldInput | null) => {

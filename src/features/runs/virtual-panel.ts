@@ -1,3 +1,4 @@
+import { useEffect } from "react";
 import type { ChannelDefinition } from "../../../shared/recording/channels";
 import type { Panel } from "../../../shared/panel/schema";
 import type { Fault } from "../../../shared/virtual/faults";
@@ -71,26 +72,16 @@ export function hostInBrowser(device: BrowserPanel, runId: string, panelId: stri
 }
 
 /**
- * The faults injected on a run's virtual links. The run API does not answer them back (the
- * report's link "faults" are refused-frame counts), so the set-up keeps them in this browser.
+ * Keeps a hosted virtual panel in step with the run while it plays: injected faults (compared by
+ * their JSON, so a fresh array of the same faults changes nothing) and the replay speed. The
+ * panel keeps its link through both.
  */
-const FAULTS_KEY = (runId: string) => `panelproof.run-faults.${runId}`;
-
-export function rememberRunFaults(runId: string, links: readonly { panelId: string; kind: string; faults?: readonly Fault[] }[]) {
-  try {
-    const byPanel = Object.fromEntries(links.filter((l) => l.kind === "virtual").map((l) => [l.panelId, l.faults ?? []]));
-    localStorage.setItem(FAULTS_KEY(runId), JSON.stringify(byPanel));
-  } catch {
-    // Storage full or refused: the virtual panel then runs without its faults.
-  }
-}
-
-export function rememberedRunFaults(runId: string, panelId: string): Fault[] | null {
-  try {
-    const text = localStorage.getItem(FAULTS_KEY(runId));
-    const list = text ? (JSON.parse(text) as Record<string, unknown>)[panelId] : undefined;
-    return Array.isArray(list) ? (list as Fault[]) : null;
-  } catch {
-    return null;
-  }
+export function useDeviceFollowsRun(device: VirtualPanelDevice | null, faults: readonly Fault[], speed: number) {
+  const faultKey = JSON.stringify(faults);
+  useEffect(() => {
+    device?.setFaults(JSON.parse(faultKey) as Fault[]);
+  }, [device, faultKey]);
+  useEffect(() => {
+    if (device) device.speed = speed;
+  }, [device, speed]);
 }
