@@ -11,7 +11,8 @@ export type ButtonElement = Extract<Element, { kind: "button" }>;
 export function HandButtons({ buttons, onPress, disabled = false }: { buttons: readonly ButtonElement[]; onPress: (el: ButtonElement, pressed: boolean) => void; disabled?: boolean }) {
   if (buttons.length === 0) return null;
   return (
-    <div className="flex flex-wrap items-end gap-2" role="group" aria-label="Push buttons by hand">
+    <div className="flex flex-wrap items-center gap-2" role="group" aria-label="Push buttons by hand">
+      <span className="text-xs font-semibold text-ink-soft">Press by hand (held while the pointer is down):</span>
       {buttons.map((el) => (
         <PressButton key={el.id} el={el} onPress={onPress} disabled={disabled} />
       ))}
