@@ -5,6 +5,8 @@ import { applyObservations } from "../../shared/compare/observations";
 import { runChecks } from "../../shared/api/runs";
 import { summarizeLags } from "../../shared/compare/statistics";
 import { expectTimelines } from "../../shared/expect/engine";
+import type { RecordingColumns } from "../../shared/expect/recording-columns";
+import { panelChannels, type Panel } from "../../shared/panel/schema";
 import type { ChannelDefinition } from "../../shared/recording/channels";
 import type { Frame } from "../../shared/recording/frames";
 import type pg from "pg";
@@ -14,7 +16,7 @@ import { warmMismatchJson } from "./mismatch-json";
 import { mismatch, recording, run, runElementResult, seenLog } from "../db/schema";
 void mismatch;
 import type { DbOrTx } from "../recordings/writer";
-import { framesOf } from "../recordings/read";
+import { framesOf, recordingColumnsOf } from "../recordings/read";
 import { decodeSeenChunk, type SeenRecord } from "./seen-log";
 
 type RunRow = typeof run.$inferSelect;
@@ -28,6 +30,22 @@ export async function loadRecording(db: DbOrTx, recordingId: string): Promise<{ 
   const frames: Frame[] = [];
   for await (const batch of framesOf(db, recordingId)) for (const f of batch) frames.push(f);
   return { frames, durationMs: Math.max(rec.durationMs, frames.at(-1)?.t ?? 0), channels: rec.channels, name: rec.name };
+}
+
+/**
+ * A recording as columns (shared/expect's RecordingColumns) of only the channels `panels` bind,
+ * read straight from its segments: what expected timelines are computed from on the server. An
+ * hour at 60 Hz as frame objects is about 180 MB the garbage collector marks again and again.
+ */
+export async function loadRecordingColumns(
+  db: DbOrTx,
+  recordingId: string,
+  panels: readonly Pick<Panel, "elements">[],
+): Promise<{ columns: RecordingColumns; durationMs: number; channels: ChannelDefinition[]; name: string }> {
+  const [rec] = await db.select({ durationMs: recording.durationMs, channels: recording.channels, name: recording.name }).from(recording).where(eq(recording.id, recordingId));
+  if (!rec) throw new Error(`recording ${recordingId} is gone`);
+  const columns = await recordingColumnsOf(db, recordingId, panels.flatMap((p) => panelChannels(p)));
+  return { columns, durationMs: Math.max(rec.durationMs, columns.lastT), channels: rec.channels, name: rec.name };
 }
 
 /** The stored seen log of one panel, in time order, without reports a later pass replaced. */
@@ -54,8 +72,8 @@ export interface PanelJudgement {
 }
 
 /** Judges every panel of a run from its stored seen log and gaps, with `tolerance` over the elements' own. */
-export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<Tolerances>, loaded?: { frames: Frame[]; durationMs: number }): Promise<PanelJudgement[]> {
-  const rec = loaded ?? (await loadRecording(db, row.recordingId));
+export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<Tolerances>): Promise<PanelJudgement[]> {
+  const rec = await loadRecordingColumns(db, row.recordingId, row.panels.map((p) => p.definition));
   const fromMs = row.segment?.fromMs ?? 0;
   // Judged up to where the run got (a stopped or interrupted run is not judged beyond it).
   const endMs = Math.max(fromMs, Math.min(row.positionMs, row.segment?.toMs ?? rec.durationMs, rec.durationMs));
@@ -63,7 +81,7 @@ export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<To
   const checks = runChecks.parse(row.checks ?? {});
   for (const p of row.panels) {
     const def = p.definition;
-    const full = expectTimelines(def, rec.frames, { endMs: rec.durationMs });
+    const full = expectTimelines(def, rec.columns, { endMs: rec.durationMs });
     const timelines = { ...full, startMs: fromMs, endMs };
     const byId = new Map(def.elements.map((el) => [el.id, el]));
     const seen = (await seenLogOf(db, row, p.panelId)).filter((r) => r.sample.t <= endMs);

@@ -1,4 +1,4 @@
-import { deflateRawSync } from "node:zlib";
+import { deflateRawSync, inflateRawSync } from "node:zlib";
 
 /**
  * Node's own zlib for segment compression on the server: raw DEFLATE like fflate's, so the
@@ -11,4 +11,9 @@ import { deflateRawSync } from "node:zlib";
  */
 export function nativeDeflate(bytes: Uint8Array): Uint8Array {
   return deflateRawSync(bytes, { level: 1 });
+}
+
+/** Node's own zlib to read segments back (raw DEFLATE, either writer's). */
+export function nativeInflate(bytes: Uint8Array): Uint8Array {
+  return inflateRawSync(bytes);
 }

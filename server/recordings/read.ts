@@ -2,7 +2,9 @@ import { and, asc, desc, eq, gt, gte, lte } from "drizzle-orm";
 import type { SeriesView } from "../../shared/api/recordings";
 import type { ChannelDefinition, ChannelValue } from "../../shared/recording/channels";
 import { emptyState, type ChannelState, type Frame } from "../../shared/recording/frames";
-import { decodeSegment } from "../../shared/recording/segments";
+import { RecordingColumns } from "../../shared/expect/recording-columns";
+import { decodeSegment, decodeSegmentInto } from "../../shared/recording/segments";
+import { nativeInflate } from "./native-deflate";
 import { recordingSegment } from "../db/schema";
 import type { DbOrTx } from "./writer";
 
@@ -42,6 +44,27 @@ export async function* framesOf(db: DbOrTx, recordingId: string, batch = 32): As
       .limit(batch);
     if (rows.length === 0) return;
     for (const row of rows) yield decodeSegment(row.payload).frames;
+    next = rows[rows.length - 1].index + 1;
+  }
+}
+
+/**
+ * The whole recording as columns (shared/expect's RecordingColumns), read segment by segment
+ * straight from the stored rows: no frame objects, the form expected timelines are computed from.
+ * `channels`: keep only these (a run's bound channels); the rest are skipped as they are read.
+ */
+export async function recordingColumnsOf(db: DbOrTx, recordingId: string, channels?: Iterable<string>, batch = 32): Promise<RecordingColumns> {
+  const columns = new RecordingColumns(channels);
+  let next = 0;
+  for (;;) {
+    const rows = await db
+      .select({ index: recordingSegment.index, payload: recordingSegment.payload })
+      .from(recordingSegment)
+      .where(and(eq(recordingSegment.recordingId, recordingId), gte(recordingSegment.index, next)))
+      .orderBy(asc(recordingSegment.index))
+      .limit(batch);
+    if (rows.length === 0) return columns;
+    for (const row of rows) decodeSegmentInto(row.payload, columns, nativeInflate);
     next = rows[rows.length - 1].index + 1;
   }
 }

@@ -26,8 +26,8 @@ import {
 import { entityId } from "../../shared/api/workshops";
 import { applyTransform } from "../../shared/elements/bindings";
 import { accelerationDegreesPerSecond2, maxDegreesPerSecond, motionDemand, type ValueSample } from "../../shared/elements/scale";
-import { expectTimelines, panelCoverage, type ExpectFrame } from "../../shared/expect";
-import { deviceHeader, exportPanelJson, mirrorPanel, panel as panelSchema, type Panel } from "../../shared/panel";
+import { expectTimelines, panelCoverage } from "../../shared/expect";
+import { deviceHeader, exportPanelJson, mirrorPanel, panel as panelSchema, panelChannels, type Panel } from "../../shared/panel";
 import type { Database } from "../db/client";
 import { airframe, deviceToken, panel, recording, user } from "../db/schema";
 import { requireActor, requireMembership, type Services } from "../http/context";
@@ -37,7 +37,7 @@ import { authorize } from "../policies/actor";
 import { panelPolicy } from "../policies/panel";
 import { kindCounts, mirrorNames, suffixedSlug, validDefinition, withPhotoKey, withoutPhotoKey } from "../panels/definition";
 import { photoExtension, preparePhoto, readRawBody } from "../panels/photo";
-import { framesOf } from "../recordings/read";
+import { recordingColumnsOf } from "../recordings/read";
 import { findAirframe } from "./airframes";
 
 const workshopParams = z.object({ workshopId: entityId });
@@ -420,9 +420,8 @@ export function panelsRouter(services: Services) {
     const { recordingId } = parseQuery(req, expectedQuery);
     const row = await findPanel(workshopId, panelId);
     const rec = await recordingForPanel(workshopId, recordingId, row);
-    const frames: ExpectFrame[] = [];
-    for await (const batch of framesOf(db, rec.id)) for (const f of batch) frames.push(f);
-    const timelines = expectTimelines(row.definition, frames, { endMs: Math.max(rec.durationMs, frames.at(-1)?.t ?? 0) });
+    const columns = await recordingColumnsOf(db, rec.id, panelChannels(row.definition));
+    const timelines = expectTimelines(row.definition, columns, { endMs: Math.max(rec.durationMs, columns.lastT) });
     const view: ExpectedView = {
       panelId: row.id,
       recordingId: rec.id,
@@ -467,11 +466,9 @@ export function panelsRouter(services: Services) {
     const rec = await recordingForPanel(workshopId, recordingId, row);
     const channel = el.value.channel;
     const samples: ValueSample[] = [];
-    for await (const batch of framesOf(db, rec.id)) {
-      for (const f of batch) {
-        const v = f.v[channel];
-        if (typeof v === "number") samples.push({ time: f.t / 1000, value: applyTransform(el.value.transform, v) });
-      }
+    const column = (await recordingColumnsOf(db, rec.id, [channel])).column(channel);
+    for (let i = 0; i < column.length; i++) {
+      if (column.isOther[i] === 0) samples.push({ time: column.times[i] / 1000, value: applyTransform(el.value.transform, column.numbers[i]) });
     }
     const demand = motionDemand(samples, el.scale, el.motor, { toleranceDegrees: el.tolerance.degrees });
     const view: MotionView = {

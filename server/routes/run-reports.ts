@@ -28,7 +28,7 @@ import { authorize } from "../policies/actor";
 import { runPolicy } from "../policies/run";
 import { sharePolicy } from "../policies/share";
 import { elementRowsOf, exportOf, recordingNameOf, summaryOf } from "../bench/report";
-import { EMPTY_COUNTS, loadRecording, seenLogOf } from "../bench/store";
+import { EMPTY_COUNTS, loadRecordingColumns, seenLogOf } from "../bench/store";
 import { runReportMail } from "../mail/templates";
 import { hashShareToken, sharedRunOf } from "./shared-link";
 
@@ -84,7 +84,7 @@ const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
 
 async function computeExpectedView(services: Services, row: RunRow): Promise<RunExpectedView> {
   const fromMs = row.segment?.fromMs ?? 0;
-  const rec = await loadRecording(services.db, row.recordingId);
+  const rec = await loadRecordingColumns(services.db, row.recordingId, row.panels.map((p) => p.definition));
   const toMs = Math.max(fromMs, Math.min(row.positionMs, row.segment?.toMs ?? rec.durationMs, rec.durationMs));
   const panels: RunExpectedView["panels"] = [];
   for (const p of row.panels) {
@@ -92,7 +92,7 @@ async function computeExpectedView(services: Services, row: RunRow): Promise<Run
     await nextTurn();
     // What the run judged: its segment, up to where it got. Coverage read from the whole recording
     // would credit a segment run with what it never played.
-    const timelines = timelinesWithin(expectTimelines(p.definition, rec.frames, { endMs: rec.durationMs }), fromMs, toMs);
+    const timelines = timelinesWithin(expectTimelines(p.definition, rec.columns, { endMs: rec.durationMs }), fromMs, toMs);
     panels.push({
       panelId: p.panelId,
       name: p.name,

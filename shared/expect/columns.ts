@@ -6,17 +6,21 @@ import type { SimulatedClock } from "xstate";
 export const FRAMES_PER_CHUNK = 4096;
 
 /**
- * One channel's samples from a chunk of frames: instants, values, and a sequence number that
- * orders every sample of the recording (frame order, then the order the frame lists channels).
+ * One channel's samples (from a chunk of frames, or a whole recording: RecordingColumns):
+ * instants, values, and a sequence number that orders every sample of the recording (frame order,
+ * then the order the frame lists channels).
  *
- * Numbers are kept unboxed in `numbers` (`others` holds undefined there), everything else in
- * `others`: reading a number from a frame object boxes it afresh, and a box kept in a column
- * would survive into the next garbage collection, where copying it is the expensive part.
+ * Numbers are kept unboxed in `numbers` (`isOther` 0), everything else in `others` (`isOther` 1,
+ * `others` has holes where the samples are numbers): reading a number from a frame object boxes
+ * it afresh, and a box kept in a column would survive into the next garbage collection, where
+ * copying it is the expensive part. A column of numbers holds no JavaScript objects at all, so a
+ * whole recording of them costs the collector nothing to mark.
  */
 export class ChannelColumn {
   times = new Float64Array(256);
   seq = new Int32Array(256);
   numbers = new Float64Array(256);
+  isOther = new Uint8Array(256);
   others: (BoundValue | undefined)[] = [];
   length = 0;
 
@@ -27,15 +31,17 @@ export class ChannelColumn {
     this.seq[n] = seq;
     if (typeof value === "number") {
       this.numbers[n] = value;
-      this.others[n] = undefined;
-    } else this.others[n] = value;
+      this.isOther[n] = 0;
+    } else {
+      this.isOther[n] = 1;
+      this.others[n] = value;
+    }
     this.length = n + 1;
   }
 
   /** The sample at i as the frame gave it. */
   valueAt(i: number): BoundValue {
-    const other = this.others[i];
-    return other === undefined ? this.numbers[i] : other;
+    return this.isOther[i] === 0 ? this.numbers[i] : (this.others[i] as BoundValue);
   }
 
   private grow(): void {
@@ -49,11 +55,19 @@ export class ChannelColumn {
     const numbers = new Float64Array(n * 2);
     numbers.set(this.numbers);
     this.numbers = numbers;
+    const isOther = new Uint8Array(n * 2);
+    isOther.set(this.isOther);
+    this.isOther = isOther;
   }
 }
 
+/** Where an element finds the column of a channel it binds. */
+export interface ColumnSource {
+  column(channel: string): ChannelColumn;
+}
+
 /** The columns of the channels some element binds; other channels are never copied. */
-export class ChannelColumns {
+export class ChannelColumns implements ColumnSource {
   readonly byChannel = new Map<string, ChannelColumn>();
 
   column(channel: string): ChannelColumn {
@@ -94,7 +108,7 @@ export class ElementFeed {
 
   constructor(
     private readonly source: FeedSource,
-    all: ChannelColumns,
+    all: ColumnSource,
   ) {
     for (const [channel, listener] of source.listeners) {
       const column = all.column(channel);

@@ -16,6 +16,7 @@ import { AngleComputer, normalizeAngle, shortestArc } from "../elements/scale/sc
 import type { Panel } from "../panel/schema";
 import { runPointerSamples } from "./pointer-loop";
 import { SlewFollower } from "./slew";
+import { RecordingColumns } from "./recording-columns";
 import { ChannelColumns, ElementFeed, type ChannelColumn, FRAMES_PER_CHUNK, type BulkListener, type Listener } from "./columns";
 import { actorCell, MemoTables, type CellEvent, type MachineCell } from "./cells";
 import { countKey, DiscreteTrackBuilder, flagKey, LinearTrackBuilder, textKey } from "./tracks";
@@ -90,7 +91,11 @@ function cellOf(build: Build, machine: AnyStateMachine, input?: unknown): Machin
  *
  * Gives exactly what `expectTimelinesStepwise` gives (a property test compares the two).
  */
-export function expectTimelines(panel: Pick<Panel, "id" | "elements">, frames: Iterable<ExpectFrame>, options: ExpectOptions = {}): ExpectedTimelines {
+export function expectTimelines(
+  panel: Pick<Panel, "id" | "elements">,
+  recording: Iterable<ExpectFrame> | RecordingColumns,
+  options: ExpectOptions = {},
+): ExpectedTimelines {
   const build = buildOf(options, new MemoTables());
   const runners = panel.elements.map((el) => {
     if (el.kind !== "switch" || !el.springReturn) return compileElement(el, build);
@@ -98,11 +103,19 @@ export function expectTimelines(panel: Pick<Panel, "id" | "elements">, frames: I
     const clock = new SimulatedClock();
     return { ...compileElement(el, { ...build, clock }), clock };
   });
+  const startMs = 0;
+  if (recording instanceof RecordingColumns) {
+    // The whole recording is in columns already: each element plays its channels once, through.
+    const feeds = runners.map((runner) => new ElementFeed(runner, recording));
+    for (const runner of runners) runner.start(startMs);
+    for (let i = 0; i < feeds.length; i++) feeds[i].play();
+    return finishRunners(panel, runners, startMs, Math.max(startMs, recording.lastT), options);
+  }
+  const frames = recording;
   const columns = new ChannelColumns();
   const feeds = runners.map((runner) => new ElementFeed(runner, columns));
   const byChannel = columns.byChannel;
 
-  const startMs = 0;
   for (const runner of runners) runner.start(startMs);
   let last = startMs;
   let seq = 0;
@@ -138,6 +151,11 @@ export function expectTimelines(panel: Pick<Panel, "id" | "elements">, frames: I
   if (Array.isArray(frames)) for (let i = 0; i < frames.length; i++) read(frames[i] as ExpectFrame);
   else for (const frame of frames) read(frame);
   flush();
+  return finishRunners(panel, runners, startMs, last, options);
+}
+
+/** Runs every element's clock to the end, closes its tracks: the timelines. */
+function finishRunners(panel: Pick<Panel, "id">, runners: Runner[], startMs: number, last: number, options: ExpectOptions): ExpectedTimelines {
   const endMs = Math.max(options.endMs ?? last, last);
   for (const runner of runners) {
     if (runner.clock) advanceClockTo(runner.clock, endMs, runner.afterTimers);
@@ -435,10 +453,10 @@ function compileElement(el: Element, build: Build): Runner {
       // sample twice: reading it from the column, and passing it to applyTransform).
       const transform = el.value.transform;
       const run: BulkListener = (column, from, to) => {
-        const { times, numbers, others } = column;
+        const { times, numbers, isOther } = column;
         let { started, previous, turned, count: shown } = state;
         for (let i = from; i < to; i++) {
-          if (others[i] !== undefined) continue;
+          if (isOther[i] !== 0) continue;
           let v = numbers[i];
           if (transform !== undefined) {
             // applyTransform: the same arithmetic in the same order.
@@ -576,14 +594,13 @@ class ReadoutState {
       for (let i = from; i < to; i++) this.sampleAt(column, i);
       return;
     }
-    const { times, numbers, others } = column;
+    const { times, numbers, isOther, others } = column;
     const { hasTransform, scale, offset, hasMin, min, hasMax, max, factor } = this;
     let lastKey = this.lastKey;
     let hasKey = this.hasKey;
     for (let i = from; i < to; i++) {
-      const other = others[i];
-      if (other !== undefined) {
-        this.other(other, times[i]);
+      if (isOther[i] !== 0) {
+        this.other(others[i] as BoundValue, times[i]);
         hasKey = false;
         continue;
       }
@@ -606,8 +623,7 @@ class ReadoutState {
   }
 
   private sampleAt(column: ChannelColumn, i: number): void {
-    const other = column.others[i];
-    if (other !== undefined) this.other(other, column.times[i]);
+    if (column.isOther[i] !== 0) this.other(column.others[i] as BoundValue, column.times[i]);
     else {
       this.inT = column.times[i];
       this.inValue = column.numbers[i];

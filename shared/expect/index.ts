@@ -7,3 +7,4 @@ export * from "./tracks";
 export * from "./slew";
 export { FRAMES_PER_CHUNK } from "./columns";
 export * from "./window";
+export { RecordingColumns } from "./recording-columns";

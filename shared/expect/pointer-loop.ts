@@ -32,7 +32,7 @@ const pointAngles = new Float64Array(8);
  * Power changes come from another channel, so `following` and `turnOffset` hold for the run.
  */
 export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, from: number, to: number): void {
-  const { times, numbers, others } = column;
+  const { times, numbers, isOther } = column;
   const transform = s.transform;
   const hasTransform = transform !== undefined;
   const transformScale = hasTransform ? transform.scale : 1;
@@ -79,10 +79,11 @@ export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, fr
   // (about 30 MB an hour for 40 pointers), so kept points are stored here, room made per sample.
   let keptTimes = line.times;
   let keptAngles = line.angles;
+  let capacity = line.capacity;
   let kept = line.count;
 
   for (let i = from; i < to; i++) {
-    if (others[i] !== undefined) continue;
+    if (isOther[i] !== 0) continue;
     const t = times[i];
     let value = numbers[i];
     if (hasTransform) {
@@ -187,11 +188,12 @@ export function runPointerSamples(s: PointerLoopState, column: ChannelColumn, fr
 
     // LinearTrackBuilder.pushIn for each point; "keep" is append plus a new anchor. A point keeps
     // at most two (a corner and a jump's far end).
-    if (points > 0 && kept + 2 * points > keptTimes.length) {
+    if (points > 0 && kept + 2 * points > capacity) {
       line.count = kept;
       line.ensureRoom(2 * points);
       keptTimes = line.times;
       keptAngles = line.angles;
+      capacity = line.capacity;
     }
     for (let j = 0; j < points; j++) {
       const pt = pointTimes[j];

@@ -92,6 +92,12 @@ export class LinearTrackBuilder {
   // calls ensureRoom() first.
   times = scratch.take(1024);
   angles = scratch.take(1024);
+  /**
+   * Points both buffers hold: spare buffers come in any size at least the one asked for, so the
+   * two may differ, and every write is checked against the smaller (a write past a typed array's
+   * end is silently dropped: checking `times` alone once lost angles when `angles` was shorter).
+   */
+  capacity = Math.min(this.times.length, this.angles.length);
   count = 0;
   /** Inputs of pushIn(). */
   inT = 0;
@@ -112,7 +118,7 @@ export class LinearTrackBuilder {
 
   /** Stores a kept point (the fused loop keeps its door state itself). */
   append(t: number, a: number): void {
-    if (this.count === this.times.length) this.grow();
+    if (this.count === this.capacity) this.grow();
     this.times[this.count] = t;
     this.angles[this.count] = a;
     this.count++;
@@ -189,6 +195,7 @@ export class LinearTrackBuilder {
     scratch.give(this.times);
     scratch.give(this.angles);
     this.times = this.angles = EMPTY;
+    this.capacity = 0;
     this.count = 0;
   }
 
@@ -205,11 +212,11 @@ export class LinearTrackBuilder {
 
   /** Makes room for `more` points after the kept ones (doubling, so growth is amortised). */
   ensureRoom(more: number): void {
-    if (this.count + more > this.times.length) this.grow(this.count + more);
+    if (this.count + more > this.capacity) this.grow(this.count + more);
   }
 
   private grow(atLeast = this.count + 1): void {
-    let size = Math.max(1024, this.times.length * 2);
+    let size = Math.max(1024, this.capacity * 2);
     while (size < atLeast) size *= 2;
     const times = scratch.take(size);
     times.set(this.times.subarray(0, this.count));
@@ -219,5 +226,6 @@ export class LinearTrackBuilder {
     angles.set(this.angles.subarray(0, this.count));
     scratch.give(this.angles);
     this.angles = angles;
+    this.capacity = Math.min(times.length, angles.length);
   }
 }

@@ -80,16 +80,21 @@ export function encodeSegment(segment: DecodedSegment, deflate: (bytes: Uint8Arr
   return deflate(new TextEncoder().encode(JSON.stringify(json)));
 }
 
-export function decodeSegment(payload: Uint8Array): DecodedSegment {
+function parseSegment(payload: Uint8Array, inflate: (bytes: Uint8Array) => Uint8Array): EncodedSegmentJson {
   let json: EncodedSegmentJson;
   try {
-    json = JSON.parse(new TextDecoder().decode(inflateSync(payload))) as EncodedSegmentJson;
+    json = JSON.parse(new TextDecoder().decode(inflate(payload))) as EncodedSegmentJson;
   } catch (error) {
     throw new RecordingError("invalid_segment", `the segment cannot be decoded (${(error as Error).message})`);
   }
   if (json.v !== SEGMENT_ENCODING_VERSION) {
     throw new RecordingError("invalid_segment", `unknown segment encoding version ${JSON.stringify(json.v)}`);
   }
+  return json;
+}
+
+export function decodeSegment(payload: Uint8Array): DecodedSegment {
+  const json = parseSegment(payload, inflateSync);
   const keyframe = emptyState();
   for (let i = 0; i < json.k.length; i += 2) keyframe[json.c[json.k[i] as number]] = json.k[i + 1];
   const frames = json.f.map((row) => {
@@ -98,6 +103,36 @@ export function decodeSegment(payload: Uint8Array): DecodedSegment {
     return { t: json.s + (row[0] as number), v };
   });
   return { startMs: json.s, keyframe, frames };
+}
+
+/** Receives a segment's frames one value at a time (e.g. shared/expect's RecordingColumns). */
+export interface FrameSink {
+  beginFrame(t: number): void;
+  value(channel: string, value: ChannelValue): void;
+}
+
+/**
+ * A segment's frames handed to `sink` as they are read, without making a frame object per frame
+ * (what the server does to compute expected timelines over a whole recording). `inflate` may be a
+ * faster native inflater (raw DEFLATE). Returns how many frames the segment held.
+ */
+export function decodeSegmentInto(payload: Uint8Array, sink: FrameSink, inflate: (bytes: Uint8Array) => Uint8Array = inflateSync): number {
+  const json = parseSegment(payload, inflate);
+  const names = json.c;
+  const start = json.s;
+  const rows = json.f;
+  for (let r = 0; r < rows.length; r++) {
+    const row = rows[r];
+    const offset = row[0];
+    if (typeof offset !== "number" || (row.length & 1) === 0) throw new RecordingError("invalid_segment", `frame ${r} of the segment starting at ${start} ms is malformed`);
+    sink.beginFrame(start + offset);
+    for (let i = 1; i < row.length; i += 2) {
+      const name = names[row[i] as number];
+      if (name === undefined) throw new RecordingError("invalid_segment", `frame ${r} of the segment starting at ${start} ms names channel ${JSON.stringify(row[i])}, not in its table`);
+      sink.value(name, row[i + 1]);
+    }
+  }
+  return rows.length;
 }
 
 /** Cuts a frame stream (in time order) into segments as frames arrive; memory stays one segment. */

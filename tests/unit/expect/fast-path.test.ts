@@ -2,8 +2,9 @@ import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import type { BoundValue } from "../../../shared/elements/bindings";
 import type { ElementInput } from "../../../shared/elements/kinds";
-import { expectTimelines, expectTimelinesStepwise, FRAMES_PER_CHUNK, type ExpectFrame } from "../../../shared/expect";
+import { expectTimelines, expectTimelinesStepwise, FRAMES_PER_CHUNK, RecordingColumns, type ExpectFrame } from "../../../shared/expect";
 import { demoPanels } from "../../../shared/panel/demo";
+import { panelChannels } from "../../../shared/panel/schema";
 import { panelOf } from "./helpers";
 
 /**
@@ -66,7 +67,11 @@ describe("fast path against the stepwise engine", () => {
     fc.assert(
       fc.property(recording, fc.integer({ min: 0, max: 3000 }), (frames, extra) => {
         const endMs = frames.at(-1)!.t + extra;
-        expect(JSON.stringify(expectTimelines(p, frames, { endMs }))).toBe(JSON.stringify(expectTimelinesStepwise(p, frames, { endMs })));
+        const reference = JSON.stringify(expectTimelinesStepwise(p, frames, { endMs }));
+        expect(JSON.stringify(expectTimelines(p, frames, { endMs }))).toBe(reference);
+        // The whole recording as columns (the server's form), all channels or only the bound ones.
+        expect(JSON.stringify(expectTimelines(p, RecordingColumns.of(frames), { endMs }))).toBe(reference);
+        expect(JSON.stringify(expectTimelines(p, RecordingColumns.of(frames, panelChannels(p)), { endMs }))).toBe(reference);
       }),
       { numRuns: 300 },
     );
@@ -89,6 +94,8 @@ describe("fast path against the stepwise engine", () => {
     const reference = JSON.stringify(expectTimelinesStepwise(p, frames));
     expect(JSON.stringify(expectTimelines(p, frames))).toBe(reference);
     expect(JSON.stringify(expectTimelines(p, generated()))).toBe(reference);
+    expect(JSON.stringify(expectTimelines(p, RecordingColumns.of(generated(), ["a", "b", "bus"])))).not.toBe(reference);
+    expect(JSON.stringify(expectTimelines(p, RecordingColumns.of(generated(), panelChannels(p))))).toBe(reference);
   });
 
   it("gives the demo panels' timelines exactly as the stepwise engine", () => {
@@ -104,7 +111,38 @@ describe("fast path against the stepwise engine", () => {
         });
         frames.push({ t: i * 50, v });
       }
-      expect(JSON.stringify(expectTimelines(panel, frames)), panel.id).toBe(JSON.stringify(expectTimelinesStepwise(panel, frames)));
+      const reference = JSON.stringify(expectTimelinesStepwise(panel, frames));
+      expect(JSON.stringify(expectTimelines(panel, frames)), panel.id).toBe(reference);
+      expect(JSON.stringify(expectTimelines(panel, RecordingColumns.of(frames, panelChannels(panel)))), panel.id).toBe(reference);
+    }
+  });
+});
+
+describe("spare track buffers between computations", () => {
+  it("a computation after others (reusing their buffers) gives the stepwise engine's timelines", () => {
+    // Pointers whose tracks keep very different numbers of points, so the spare buffers handed
+    // back come in many sizes (tests/unit/expect/tracks.test.ts checks the builder itself).
+    const pointers = Array.from({ length: 12 }, (_, i) => ({
+      kind: "pointer",
+      id: `p${i}`,
+      label: `pointer ${i}`,
+      value: { channel: `c${i % 6}` },
+      maxSlewDegPerSec: i % 3 === 0 ? undefined : 40 + i * 35,
+      scale: { kind: "sweep", interpolation: i % 2 ? "linear" : "monotone-cubic", points: [0, 30, 100].map((value, k) => ({ value, angle: [0, 90 + i, 300][k] })) },
+    })) as ElementInput[];
+    const p = panelOf(...pointers);
+    const frames: ExpectFrame[] = [];
+    let seed = 7;
+    const noise = () => ((seed = (seed * 16807) % 2147483647) / 2147483647 - 0.5) * (seed % 5);
+    for (let i = 0; i < 60 * 60 * 4; i++) {
+      const v: Record<string, BoundValue> = {};
+      for (let c = 0; c < 6; c++) v[`c${c}`] = 50 + 45 * Math.sin(i / (200 + c * 90)) + (c % 2 ? noise() : 0);
+      frames.push({ t: Math.round((i * 1000) / 60), v });
+    }
+    const reference = JSON.stringify(expectTimelinesStepwise(p, frames));
+    for (let round = 0; round < 3; round++) {
+      expect(JSON.stringify(expectTimelines(p, frames)), `round ${round}`).toBe(reference);
+      expect(JSON.stringify(expectTimelines(p, RecordingColumns.of(frames))), `round ${round}, columns`).toBe(reference);
     }
   });
 });

@@ -1,7 +1,10 @@
+import { deflateSync } from "fflate";
 import { describe, expect, it } from "vitest";
+import { RecordingColumns } from "../../../shared/expect/recording-columns";
 import { stateAtFrames, type Frame } from "../../../shared/recording/frames";
 import {
   decodeSegment,
+  decodeSegmentInto,
   encodeSegment,
   findSegmentIndex,
   framesOfSegments,
@@ -102,6 +105,44 @@ describe("segments", () => {
 
   it("give back every frame unchanged", () => {
     expect([...framesOfSegments(segments)]).toEqual(frames);
+  });
+
+  it("hand their frames to a sink value by value, the same frames with no frame objects made", () => {
+    const seen: Frame[] = [];
+    const sink = {
+      beginFrame: (t: number) => seen.push({ t, v: {} }),
+      value: (channel: string, value: Frame["v"][string]) => ((seen.at(-1)!.v as Record<string, unknown>)[channel] = value),
+    };
+    const counts = segments.map((segment) => decodeSegmentInto(segment.payload, sink));
+    expect(seen).toEqual(frames);
+    expect(counts).toEqual(segments.map((segment) => segment.frameCount));
+    // Into the engine's columns: only the wanted channels kept, in order, every value as given.
+    const columns = new RecordingColumns(["alt.baro_ft", "gear.handle"]);
+    for (const segment of segments) decodeSegmentInto(segment.payload, columns);
+    expect([...columns.byChannel.keys()].sort()).toEqual(["alt.baro_ft", "gear.handle"]);
+    expect(columns.frames).toBe(frames.length);
+    expect(columns.lastT).toBe(frames.at(-1)!.t);
+    const gear = columns.column("gear.handle");
+    expect(Array.from({ length: gear.length }, (_, i) => [gear.times[i], gear.valueAt(i)])).toEqual([
+      [0, "DOWN"],
+      [30_000, "UP"],
+      [400_000, "DOWN"],
+    ]);
+    expect(columns.column("alt.baro_ft").length).toBe(frames.length);
+    expect(columns.column("not.recorded").length).toBe(0);
+  });
+
+  it("refuse a malformed frame or a channel missing from the segment's table, saying which", () => {
+    const sink = { beginFrame: () => {}, value: () => {} };
+    const raw = (json: unknown) => deflateSync(new TextEncoder().encode(JSON.stringify(json)));
+    const bad = recordingFailure(() => decodeSegmentInto(raw({ v: 1, s: 5_000, c: ["a"], k: [], f: [[1, 0, 2], ["x", 0, 1]] }), sink));
+    expect(bad.code).toBe("invalid_segment");
+    expect(bad.message).toContain("frame 1 of the segment starting at 5000 ms");
+    const missing = recordingFailure(() => decodeSegmentInto(raw({ v: 1, s: 0, c: ["a"], k: [], f: [[1, 3, 2]] }), sink));
+    expect(missing.message).toContain("names channel 3, not in its table");
+    const columns = new RecordingColumns();
+    columns.beginFrame(10);
+    expect(() => columns.beginFrame(9)).toThrow(/time order/);
   });
 
   it("split a busy window so one segment never holds more than the frame cap", () => {
