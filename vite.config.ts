@@ -6,7 +6,8 @@ import { defineConfig } from "vite";
 // started with `npm start` (or `npm run serve`) on port 5178.
 export default defineConfig({
   plugins: [react(), tailwindcss()],
-  build: { outDir: "dist", sourcemap: true, chunkSizeWarningLimit: 700 },
+  // The manifest lets the server name a screen's chunks in the page's answer (server/client-chunks.ts).
+  build: { outDir: "dist", sourcemap: true, chunkSizeWarningLimit: 700, manifest: true },
   server: {
     host: "127.0.0.1",
     port: 5173,

@@ -1,5 +1,5 @@
 import { execFileSync } from "node:child_process";
-import { existsSync, mkdtempSync, rmSync } from "node:fs";
+import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
@@ -31,7 +31,9 @@ import type { BenchReport, BenchRow } from "./harness";
  * every animation frame by a watcher in the page (WATCH_MARKS), which also clicks "Next ›".
  *
  * The first visit is cold (the server computes the expected timelines); the repeat visits are
- * warm. Needs BENCH_DATABASE_URL or TEST_DATABASE_URL (skipped without one). The client is built
+ * warm. With BENCH_PROFILE=1 the first visit is also traced (Chromium's trace and a JavaScript CPU
+ * profile, written to .data/bench/; open them in Chromium's DevTools) and the page's resource
+ * timings are printed: how docs/run-report.md's "Speed" was worked out. Needs BENCH_DATABASE_URL or TEST_DATABASE_URL (skipped without one). The client is built
  * into $TMPDIR/panelproof-report-bench-client unless BENCH_CLIENT_DIR names a built one.
  */
 
@@ -183,9 +185,32 @@ const WATCH_MARKS = `(() => {
   requestAnimationFrame(check);
 })();`;
 
-async function visitReport(page: Page, url: string): Promise<Visit> {
+/** Where BENCH_PROFILE=1 leaves the first visit's Chromium trace and JavaScript CPU profile. */
+function profileDir(): string {
+  const dir = path.resolve(here, "../.data/bench");
+  mkdirSync(dir, { recursive: true });
+  return dir;
+}
+
+async function visitReport(page: Page, url: string, profile = false): Promise<Visit> {
+  const cdp = profile ? await page.context().newCDPSession(page) : null;
+  if (cdp) {
+    await cdp.send("Profiler.enable");
+    await cdp.send("Profiler.setSamplingInterval", { interval: 200 });
+    await cdp.send("Profiler.start");
+  }
+  if (profile) await page.context().browser()!.startTracing(page, { path: path.join(profileDir(), "report-cold.trace.json"), categories: ["devtools.timeline", "v8", "disabled-by-default-devtools.timeline", "blink", "loading"] });
   await page.goto(url, { waitUntil: "commit" });
   const m = await marksWhen(page, (x) => x.secondPage !== undefined && x.instant !== undefined);
+  if (profile) await page.context().browser()!.stopTracing();
+  if (cdp) {
+    const { profile: p } = await cdp.send("Profiler.stop");
+    writeFileSync(path.join(profileDir(), "report-cold.cpuprofile"), JSON.stringify(p));
+    const js = await page.evaluate(() =>
+      (performance.getEntriesByType("resource") as PerformanceResourceTiming[]).map((r) => `${r.name.split("/").pop()} ${Math.round(r.startTime)}–${Math.round(r.responseStart)}–${Math.round(r.responseEnd)}`).join("\n"),
+    );
+    console.log(js, "\nmarks", JSON.stringify(m));
+  }
   const summaryMs = m.verdict!;
   const rowsMs = m.firstRow!;
   const interactiveMs = m.secondPage!;
@@ -292,7 +317,7 @@ export async function run(): Promise<BenchReport> {
     };
     const reportUrl = `/w/${workshopId}/runs/${runId}/report`;
     const baselineCold = await listVisit();
-    const cold = await visitReport(page, reportUrl);
+    const cold = await visitReport(page, reportUrl, !!process.env.BENCH_PROFILE);
     const warm: Visit[] = [];
     const baselines: number[] = [baselineCold];
     for (let i = 0; i < WARM_VISITS; i++) {

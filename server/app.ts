@@ -1,4 +1,5 @@
-import { preloadsFor } from "./preloads";
+import { ClientPage } from "./client-chunks";
+import { preloadsFor, screenModuleFor } from "./preloads";
 import path from "node:path";
 import express, { type RequestHandler } from "express";
 import { toNodeHandler } from "better-auth/node";
@@ -71,11 +72,13 @@ export function createApp(services: Services, options: AppOptions) {
   if (options.clientDir) {
     const dir = path.resolve(options.clientDir);
     app.use(express.static(dir, { index: false, maxAge: "1h" }));
-    // Client routes (React Router) all load the same page.
+    const page = new ClientPage(dir);
+    // Client routes (React Router) all load the same page, naming what the screen will need first.
     app.get("/{*splat}", (req, res) => {
       const preloads = preloadsFor(req.path);
       if (preloads.length) res.set("link", preloads.map((p) => `<${p}>; rel=preload; as=fetch; crossorigin=anonymous`).join(", "));
-      res.sendFile(path.join(dir, "index.html"), { maxAge: 0 });
+      res.set("cache-control", "public, max-age=0");
+      res.type("html").send(page.html(screenModuleFor(req.path)));
     });
   }
   app.use(errorHandler);

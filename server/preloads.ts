@@ -16,3 +16,15 @@ export function preloadsFor(pagePath: string): string[] {
   if (parts[2] === "runs" && parts[3] && SAFE_SEGMENT.test(parts[3]) && parts[4] === "report" && parts.length === 5) out.push(`/api/workshops/${workshop}/runs/${parts[3]}/export.json`);
   return out;
 }
+
+/**
+ * The source module of the screen at `pagePath` whose code the page's answer names for preloading
+ * (server/client-chunks.ts), or null. Only the report screens, which have a speed target: the
+ * routes themselves live in src/main.tsx.
+ */
+export function screenModuleFor(pagePath: string): string | null {
+  const parts = pagePath.split("/").filter(Boolean);
+  if (parts[0] === "shared" && parts.length === 2) return "src/routes/SharedReport.tsx";
+  if (parts[0] === "w" && parts[2] === "runs" && parts[4] === "report" && parts.length === 5) return "src/routes/RunReport.tsx";
+  return null;
+}

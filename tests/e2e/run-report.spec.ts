@@ -85,6 +85,10 @@ test("a builder compares two runs, e-mails the report, scrubs the panel and read
   expect(before).not.toBe(after);
 
   // The report of the later run: compare with the earlier one.
+  // The report page's answer names the report screen's code (modulepreload) and its first API answers (Link header).
+  const pageAnswer = await page.request.get(`/w/${workshopId}/runs/${after}/report`);
+  expect(await pageAnswer.text()).toMatch(/<link rel="modulepreload" crossorigin href="\/assets\/RunReport-[\w-]+\.js">/);
+  expect(pageAnswer.headers()["link"]).toContain(`/api/workshops/${workshopId}/runs/${after}/export.json`);
   await page.goto(`/w/${workshopId}/runs/${after}/report`);
   await expect(page.getByTestId("verdict")).toContainText("Not passed");
   await expect(page.getByLabel("Compare with")).toHaveValue(before);

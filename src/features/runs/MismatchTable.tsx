@@ -24,7 +24,7 @@ export const MismatchTable = memo(function MismatchTable({
   mismatches,
   labels,
   onSeek,
-  pageSize = 100,
+  pageSize = 50,
 }: {
   mismatches: LiveMismatch[];
   labels: Record<string, string>;
@@ -124,7 +124,7 @@ export const MismatchTable = memo(function MismatchTable({
           {matching === mismatches.length ? `${mismatches.length} ${mismatches.length === 1 ? "mismatch" : "mismatches"}` : `${matching} of ${mismatches.length} mismatches`}
         </p>
       </div>
-      {/* Laid out only when scrolled near (a page of 100 rows is usually below the fold at first). */}
+      {/* Laid out only when scrolled near (a page of 50 rows is usually below the fold at first). */}
       <div className="overflow-x-auto rounded-lg border border-rule bg-card" style={lazyLayout(rows.length)}>
         <table className="w-full text-left text-sm" aria-label="Mismatches">
           <SortableHead table={table} />
