@@ -1,5 +1,5 @@
 import type { AngleTrack } from "../expect/types";
-import { forgetAfter, seenMemory } from "./seen-memory";
+import { forgetFront, seenMemory, shouldForget } from "./seen-memory";
 import { MismatchSweep, type Piece } from "./sweep";
 import type { LinkGap, Mismatch } from "./types";
 
@@ -239,20 +239,20 @@ export class AngleTrackJudge {
       this.cutShort = b < natural;
     }
     // Reports behind the one held at the cursor are never read again.
-    if (this.seenIndex >= forgetAfter()) {
-      this.seenT.splice(0, this.seenIndex);
-      this.seenAngle.splice(0, this.seenIndex);
+    if (shouldForget(this.seenIndex, this.seenT.length)) {
+      forgetFront(this.seenT, this.seenIndex);
+      forgetFront(this.seenAngle, this.seenIndex);
       this.seenIndex = 0;
     }
   }
 
-  finish(endMs: number): Mismatch[] {
+  finish(endMs: number): readonly Mismatch[] {
     this.advance(endMs);
     this.sweep.close(endMs, "none", false);
     return this.sweep.take();
   }
 
-  take(): Mismatch[] {
+  take(): readonly Mismatch[] {
     return this.sweep.take();
   }
 

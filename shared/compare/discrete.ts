@@ -1,5 +1,5 @@
 import type { Change } from "../expect/types";
-import { forgetAfter, seenMemory } from "./seen-memory";
+import { forgetFront, seenMemory, shouldForget } from "./seen-memory";
 import { MismatchSweep, type Piece } from "./sweep";
 import type { JudgedTrack, LinkGap, Mismatch } from "./types";
 
@@ -18,6 +18,7 @@ export class DiscreteTrackJudge<V> {
   private readonly sweep: MismatchSweep;
   private readonly seen: Change<V>[] = [];
   private readonly gaps: LinkGap[] = [];
+  private readonly piece: Piece = { from: 0, to: 0, noData: false, bad: false, error: 0, errorAt: 0, expected: undefined, seen: undefined, cause: "none" };
   private cursor: number;
   private expIndex = -1;
   private seenIndex = -1;
@@ -87,43 +88,52 @@ export class DiscreteTrackJudge<V> {
       }
       if (exp === undefined) {
         // Nothing is expected yet (the recording has not set the channel): not judged.
-        this.sweep.feed({ from: a, to: b, noData: false, bad: false, error: 0, errorAt: a, expected: undefined, seen: undefined, cause });
+        this.feed(a, b, false, false, 0, undefined, undefined, cause);
       } else if (seen === undefined || (this.gaps.length > 0 && this.noDataAt(a, seen.t))) {
-        this.sweep.feed({ from: a, to: b, noData: true, bad: false, error: 0, errorAt: a, expected: exp.shows, seen: undefined, cause });
+        this.feed(a, b, true, false, 0, exp.shows, undefined, cause);
       } else {
         const equal = this.rules.equal(exp.shows, seen.shows);
         if (equal && this.pending && this.rules.equal(this.pending.value, exp.shows)) {
           this.lags.push(a - this.pending.t);
           this.pending = null;
         }
-        this.sweep.feed({
-          from: a,
-          to: b,
-          noData: false,
-          bad: !equal,
-          error: equal ? 0 : this.rules.error(exp.shows, seen.shows),
-          errorAt: a,
-          expected: exp.shows,
-          seen: seen.shows,
-          cause,
-        });
+        this.feed(a, b, false, !equal, equal ? 0 : this.rules.error(exp.shows, seen.shows), exp.shows, seen.shows, cause);
       }
       this.cursor = b;
     }
     // Reports behind the one held at the cursor are never read again.
-    if (this.seenIndex >= forgetAfter()) {
-      this.seen.splice(0, this.seenIndex);
+    if (shouldForget(this.seenIndex, this.seen.length)) {
+      forgetFront(this.seen, this.seenIndex);
       this.seenIndex = 0;
     }
   }
 
-  finish(endMs: number): Mismatch[] {
+  /**
+   * One piece to the sweep, through one object reused for every piece (the sweep copies what it
+   * keeps): a live run advances every element of every link at every frame.
+   */
+  private feed(from: number, to: number, noData: boolean, bad: boolean, error: number, expected: unknown, seen: unknown, cause: Piece["cause"]) {
+    const piece = this.piece;
+    piece.from = from;
+    piece.to = to;
+    piece.noData = noData;
+    piece.bad = bad;
+    piece.error = error;
+    piece.errorAt = from;
+    piece.expected = expected;
+    piece.seen = seen;
+    piece.cause = cause;
+    this.sweep.feed(piece);
+    piece.expected = piece.seen = undefined;
+  }
+
+  finish(endMs: number): readonly Mismatch[] {
     this.advance(endMs);
     this.sweep.close(endMs, "none", false);
     return this.sweep.take();
   }
 
-  take(): Mismatch[] {
+  take(): readonly Mismatch[] {
     return this.sweep.take();
   }
 

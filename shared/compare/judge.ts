@@ -70,6 +70,8 @@ export class ElementJudge {
   private readonly breaker?: DiscreteTrackJudge<BreakerShows>;
   private readonly position?: DiscreteTrackJudge<string>;
   private readonly angle?: AngleTrackJudge;
+  /** The tracks this element has, judged in this order (lamp, text, breaker, position, angle). */
+  private readonly tracks: (DiscreteTrackJudge<LampShows> | DiscreteTrackJudge<string> | DiscreteTrackJudge<BreakerShows> | AngleTrackJudge)[];
   private readonly mismatches: Mismatch[] = [];
   private reports = 0;
   private lastSeenT = -Infinity;
@@ -92,6 +94,7 @@ export class ElementJudge {
     if (tr.breaker) this.breaker = new DiscreteTrackJudge(id, "breaker", tr.breaker, breakerRules, tol.lagBudgetMs, startMs);
     if (tr.position) this.position = new DiscreteTrackJudge(id, "position", tr.position, positionRules, tol.lagBudgetMs, startMs);
     if (timeline.angle) this.angle = new AngleTrackJudge(id, timeline.angle, tol.degrees, tol.lagBudgetMs, startMs);
+    this.tracks = [this.lamp, this.text, this.breaker, this.position, this.angle].filter((j) => j !== undefined);
   }
 
   addSeen(sample: SeenSample) {
@@ -115,8 +118,13 @@ export class ElementJudge {
       for (const s of this.flashing.release(t)) this.lamp.addSeen(s.t, s.lamp);
       this.lamp.advance(this.flashing.settledUntil(t));
     }
-    for (const j of [this.text, this.breaker, this.position, this.angle]) j?.advance(t);
-    for (const j of [this.lamp, this.text, this.breaker, this.position, this.angle]) if (j) this.mismatches.push(...j.take());
+    // Called for every element of every link at every frame of a live run: no lists made here.
+    const tracks = this.tracks;
+    for (let i = 0; i < tracks.length; i++) if (tracks[i] !== this.lamp) tracks[i].advance(t);
+    for (let i = 0; i < tracks.length; i++) {
+      const settled = tracks[i].take();
+      for (let k = 0; k < settled.length; k++) this.mismatches.push(settled[k]);
+    }
   }
 
   /** Failing already at `t` (the last advance) although no mismatch has closed yet: for live display. */
@@ -214,7 +222,7 @@ export class RunJudge {
   }
 
   advance(t: number) {
-    for (const { judge } of this.judges.values()) judge.advance(t);
+    for (const entry of this.judges.values()) entry.judge.advance(t);
   }
 
   /** Elements whose current mismatch has outlasted the lag budget at `t` but not closed yet. */

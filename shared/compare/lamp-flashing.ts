@@ -1,4 +1,7 @@
 import type { LampShows } from "../expect/types";
+import { forgetFront, shouldForget } from "./seen-memory";
+
+const NOTHING: readonly { t: number; lamp: LampShows }[] = Object.freeze([]);
 
 /**
  * A panel that cannot say "flashing" reports a flashing lamp as on, off, on, off. This turns
@@ -39,7 +42,8 @@ export class FlashingDetector {
   }
 
   /** Samples whose meaning is settled once time has reached `now`, translated. Everything when `now` is Infinity. */
-  release(now: number): { t: number; lamp: LampShows }[] {
+  release(now: number): readonly { t: number; lamp: LampShows }[] {
+    if (this.next >= this.raw.length) return NOTHING;
     const out: { t: number; lamp: LampShows }[] = [];
     while (this.next < this.raw.length) {
       const i = this.next;
@@ -61,6 +65,11 @@ export class FlashingDetector {
         out.push(s);
       }
       this.next++;
+    }
+    // Released samples are never read again (a run in progress keeps what it needs in inRun).
+    if (shouldForget(this.next, this.raw.length)) {
+      forgetFront(this.raw, this.next);
+      this.next = 0;
     }
     return out;
   }

@@ -1,5 +1,7 @@
 import type { JudgedTrack, Mismatch, MismatchKind } from "./types";
 
+const NO_MISMATCHES: readonly Mismatch[] = Object.freeze([]);
+
 /** One stretch of time with constant comparison inputs (a discrete value each side, or one linear piece). */
 export interface Piece {
   from: number;
@@ -90,8 +92,11 @@ export class MismatchSweep {
     return this.open !== null && t - this.open.start > this.lagBudgetMs;
   }
 
-  /** Mismatches finished so far, removed from the sweep. */
-  take(): Mismatch[] {
-    return this.done.splice(0);
+  /**
+   * Mismatches finished so far, removed from the sweep. Usually none: then one shared empty list,
+   * not a new one (a live run asks every element of every link at every frame).
+   */
+  take(): readonly Mismatch[] {
+    return this.done.length === 0 ? NO_MISMATCHES : this.done.splice(0);
   }
 }

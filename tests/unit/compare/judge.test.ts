@@ -167,6 +167,8 @@ describe("live judging equals offline judging", () => {
       { id: "fuel-readout", kind: "readout", label: "Fuel", placeholder: false, tracks: { text: [{ t: 0, shows: "0420" }, { t: 2000, shows: "0415" }, { t: 4000, shows: "" }] } },
       { id: "pitot-cb", kind: "breaker", label: "Pitot heat", placeholder: false, tracks: { breaker: [{ t: 0, shows: "in" }, { t: 2500, shows: "tripped" }] } },
       { id: "needle", kind: "pointer", label: "Needle", placeholder: false, tracks: {}, angle: { t: [0, 3000, 6000], angle: [10, 300, 20], wrap: false } },
+      // A beacon flashing from 1 s to 4 s, reported as on and off (the flashing detector forgets too).
+      lampTimeline([{ t: 0, shows: OFF }, { t: 1000, shows: { state: "flashing", periodMs: 500, level: 255 } }, { t: 4000, shows: OFF }], "beacon"),
     ],
   };
   const tolerances = () => TOL;
@@ -183,7 +185,9 @@ describe("live judging equals offline judging", () => {
   );
 
   function toSamples(raw: any[]): { elementId: string; sample: SeenSample }[] {
-    return [...raw]
+    // The beacon's toggles, every 250 ms while it flashes (some jitter), among the random reports.
+    const beacon = Array.from({ length: 13 }, (_, k) => ({ t: 1000 + k * 250 + ((k * 37) % 21), which: 4, lamp: k % 2 === 0 && k < 12 }));
+    return [...raw, ...beacon]
       .sort((a, b) => a.t - b.t)
       .map((r) => {
         switch (r.which) {
@@ -193,6 +197,8 @@ describe("live judging equals offline judging", () => {
             return { elementId: "fuel-readout", sample: { t: r.t, shows: { track: "text", text: r.text } } };
           case 2:
             return { elementId: "pitot-cb", sample: { t: r.t, shows: { track: "breaker", breaker: r.breaker } } };
+          case 4:
+            return { elementId: "beacon", sample: { t: r.t, shows: { track: "lamp", lamp: r.lamp ? ON : OFF } } };
           default:
             return { elementId: "needle", sample: { t: r.t, shows: { track: "angle", angle: r.angle } } };
         }
@@ -258,7 +264,7 @@ describe("live judging equals offline judging", () => {
     samples.sort((a, b) => a.sample.t - b.sample.t);
     const result = judgeOffline(timelines, samples, [], tolerances);
     expect(result.mismatches).toEqual([]);
-    expect(result.counts).toMatchObject({ pass: 4, fail: 0 });
+    expect(result.counts).toMatchObject({ pass: 5, fail: 0 });
   });
 
   it("counts reports for unknown elements instead of failing", () => {
