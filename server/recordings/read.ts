@@ -32,8 +32,8 @@ export async function stateAtInstant(db: DbOrTx, recordingId: string, t: number)
   return { state, segmentsRead: 1 };
 }
 
-/** Every frame, in order, reading `batch` segment rows at a time (for downloads). */
-export async function* framesOf(db: DbOrTx, recordingId: string, batch = 32): AsyncGenerator<Frame[]> {
+/** Every segment's payload, in order, reading `batch` segment rows at a time. */
+async function* segmentPayloadsOf(db: DbOrTx, recordingId: string, batch: number): AsyncGenerator<Uint8Array> {
   let next = 0;
   for (;;) {
     const rows = await db
@@ -43,9 +43,14 @@ export async function* framesOf(db: DbOrTx, recordingId: string, batch = 32): As
       .orderBy(asc(recordingSegment.index))
       .limit(batch);
     if (rows.length === 0) return;
-    for (const row of rows) yield decodeSegment(row.payload).frames;
+    for (const row of rows) yield row.payload;
     next = rows[rows.length - 1].index + 1;
   }
+}
+
+/** Every frame, in order, a segment's at a time (for downloads). */
+export async function* framesOf(db: DbOrTx, recordingId: string, batch = 32): AsyncGenerator<Frame[]> {
+  for await (const payload of segmentPayloadsOf(db, recordingId, batch)) yield decodeSegment(payload).frames;
 }
 
 /**
@@ -55,18 +60,8 @@ export async function* framesOf(db: DbOrTx, recordingId: string, batch = 32): As
  */
 export async function recordingColumnsOf(db: DbOrTx, recordingId: string, channels?: Iterable<string>, batch = 32): Promise<RecordingColumns> {
   const columns = new RecordingColumns(channels);
-  let next = 0;
-  for (;;) {
-    const rows = await db
-      .select({ index: recordingSegment.index, payload: recordingSegment.payload })
-      .from(recordingSegment)
-      .where(and(eq(recordingSegment.recordingId, recordingId), gte(recordingSegment.index, next)))
-      .orderBy(asc(recordingSegment.index))
-      .limit(batch);
-    if (rows.length === 0) return columns;
-    for (const row of rows) decodeSegmentInto(row.payload, columns, nativeInflate);
-    next = rows[rows.length - 1].index + 1;
-  }
+  for await (const payload of segmentPayloadsOf(db, recordingId, batch)) decodeSegmentInto(payload, columns, nativeInflate);
+  return columns;
 }
 
 /** Booleans as 0/1, enums as their index, text as null (a plot shows numbers only). */

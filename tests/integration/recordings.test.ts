@@ -6,7 +6,7 @@ import { importCsv } from "../../shared/recording/csv-import";
 import { stateAtFrames, type Frame } from "../../shared/recording/frames";
 import { parseRecording, writeRecording, type RecordingHeader } from "../../shared/recording/recording-file";
 import { generateScenario } from "../../shared/recording/scenario";
-import { stateAtInstant } from "../../server/recordings/read";
+import { recordingColumnsOf, stateAtInstant } from "../../server/recordings/read";
 import { Visitor } from "../support/test-server";
 import {
   TEST_CHANNELS,
@@ -161,6 +161,17 @@ describe("uploads and background imports", () => {
       const { state, segmentsRead } = await stateAtInstant(bench.server.services.db, job.recordingId, t);
       expect(segmentsRead).toBe(1);
       expect({ ...state }).toEqual({ ...stateAtFrames(frames, t) });
+    }
+    // Read straight into columns (what expected timelines are computed from), over many batches of
+    // rows: the same samples as the frames, in order, only the channels asked for.
+    const columns = await recordingColumnsOf(bench.server.services.db, job.recordingId, ["alt.baro_ft", "gear.handle"], 7);
+    expect(columns.frames).toBe(frames.length);
+    expect(columns.lastT).toBe(frames.at(-1)!.t);
+    expect([...columns.byChannel.keys()].sort()).toEqual(["alt.baro_ft", "gear.handle"]);
+    for (const name of ["alt.baro_ft", "gear.handle"]) {
+      const column = columns.column(name);
+      const fromFrames = frames.flatMap((f) => (name in f.v ? [[f.t, f.v[name]]] : []));
+      expect(Array.from({ length: column.length }, (_, i) => [column.times[i], column.valueAt(i)])).toEqual(fromFrames);
     }
     const series = await owner.get(`${base}/recordings/${job.recordingId}/series?channels=alt.baro_ft&maxPoints=400`);
     expect(series.body.series["alt.baro_ft"].t.length).toBeLessThanOrEqual(400);
