@@ -2,7 +2,7 @@ import { createHash } from "node:crypto";
 import { availableParallelism, loadavg } from "node:os";
 import { nativeDeflate, nativeInflate } from "../server/recordings/native-deflate";
 import type { ElementInput } from "../shared/elements/kinds";
-import { expectTimelines, expectTimelinesStepwise, RecordingColumns, type ExpectFrame } from "../shared/expect";
+import { expectTimelines, expectTimelinesInTurns, expectTimelinesStepwise, RecordingColumns, type ExpectFrame } from "../shared/expect";
 import { panel, panelChannels, type Panel } from "../shared/panel/schema";
 import { decodeSegment, decodeSegmentInto, segmentFrames } from "../shared/recording/segments";
 import type { BenchReport } from "./harness";
@@ -190,6 +190,25 @@ export async function run(): Promise<BenchReport> {
   }
   const fromColumns = createHash("sha256").update(JSON.stringify(last!.timelines)).digest("hex");
 
+  // As the server computes it: in turns, the event loop free between slices. A 1 ms ticker shows
+  // the longest the loop was held (what a live run's replay on the same server would wait).
+  const held = async (work: () => Promise<unknown>) => {
+    let longest = 0;
+    let lastTick = performance.now();
+    const ticker = setInterval(() => {
+      const now = performance.now();
+      longest = Math.max(longest, now - lastTick);
+      lastTick = now;
+    }, 1);
+    const started = performance.now();
+    await work();
+    const ms = performance.now() - started;
+    clearInterval(ticker);
+    return { ms, longest: Math.max(longest, performance.now() - lastTick) };
+  };
+  const inTurns = await held(() => expectTimelinesInTurns(p, columns, { turn: () => new Promise<void>((r) => setImmediate(r)) }));
+  const inOneGo = await held(async () => expectTimelines(p, columns));
+
   // The same hour as frame objects (a live run's form, and the engine's input before columns),
   // once each through the chunked path and the straightforward engine: ratios that hold on a
   // busy machine where absolute figures do not, and the same timelines.
@@ -239,6 +258,14 @@ export async function run(): Promise<BenchReport> {
         baseline: bareRate,
         ratio: engineRate / bareRate,
         note: "baseline: a bare loop reading every sample of the same columns once, as element-frames/s",
+      },
+      {
+        metric: "the same in turns (as the server computes it): longest the event loop was held",
+        value: inTurns.longest,
+        unit: "ms",
+        baseline: inOneGo.longest,
+        ratio: inTurns.longest / inOneGo.longest,
+        note: `baseline: computed in one go; in turns took ${Math.round(inTurns.ms)} ms in all against ${Math.round(inOneGo.ms)} ms`,
       },
       {
         metric: "reading the stored segments into columns (before computing)",

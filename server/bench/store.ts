@@ -1,10 +1,10 @@
 import { and, asc, eq, sql } from "drizzle-orm";
 import type { ElementStatus, Mismatch, Tolerances } from "../../shared/compare/types";
-import { judgeOffline, tolerancesOf, type RunJudgement } from "../../shared/compare/judge";
+import { judgeOfflineInTurns, tolerancesOf, type RunJudgement } from "../../shared/compare/judge";
 import { applyObservations } from "../../shared/compare/observations";
 import { runChecks } from "../../shared/api/runs";
 import { summarizeLags } from "../../shared/compare/statistics";
-import { expectTimelines } from "../../shared/expect/engine";
+import { expectTimelinesInTurns } from "../../shared/expect/engine";
 import type { RecordingColumns } from "../../shared/expect/recording-columns";
 import { panelChannels, type Panel } from "../../shared/panel/schema";
 import type { ChannelDefinition } from "../../shared/recording/channels";
@@ -18,6 +18,7 @@ void mismatch;
 import type { DbOrTx } from "../recordings/writer";
 import { framesOf, recordingColumnsOf } from "../recordings/read";
 import { decodeSeenChunk, type SeenRecord } from "./seen-log";
+import { nextTurn } from "../turns";
 
 type RunRow = typeof run.$inferSelect;
 
@@ -81,7 +82,7 @@ export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<To
   const checks = runChecks.parse(row.checks ?? {});
   for (const p of row.panels) {
     const def = p.definition;
-    const full = expectTimelines(def, rec.columns, { endMs: rec.durationMs });
+    const full = await expectTimelinesInTurns(def, rec.columns, { endMs: rec.durationMs, turn: nextTurn });
     const timelines = { ...full, startMs: fromMs, endMs };
     const byId = new Map(def.elements.map((el) => [el.id, el]));
     const seen = (await seenLogOf(db, row, p.panelId)).filter((r) => r.sample.t <= endMs);
@@ -90,7 +91,7 @@ export async function judgeStored(db: DbOrTx, row: RunRow, tolerance: Partial<To
     const gaps = (status?.gaps ?? []).map((gap) => ({ elementIds: ids, gap }));
     // The builder's observation answers join the link's judgement (docs/judging.md, "Observations").
     const judgement = applyObservations(
-      judgeOffline(timelines, seen, gaps, (id) => tolerancesOf(byId.get(id), tolerance)),
+      await judgeOfflineInTurns(timelines, seen, gaps, (id) => tolerancesOf(byId.get(id), tolerance), { turn: nextTurn }),
       p.panelId,
       def.elements,
       checks.observed,

@@ -26,7 +26,7 @@ import {
 import { entityId } from "../../shared/api/workshops";
 import { applyTransform } from "../../shared/elements/bindings";
 import { accelerationDegreesPerSecond2, maxDegreesPerSecond, motionDemand, type ValueSample } from "../../shared/elements/scale";
-import { expectTimelines, panelCoverage } from "../../shared/expect";
+import { expectTimelinesInTurns, panelCoverage } from "../../shared/expect";
 import { deviceHeader, exportPanelJson, mirrorPanel, panel as panelSchema, panelChannels, type Panel } from "../../shared/panel";
 import type { Database } from "../db/client";
 import { airframe, deviceToken, panel, recording, user } from "../db/schema";
@@ -38,6 +38,7 @@ import { panelPolicy } from "../policies/panel";
 import { kindCounts, mirrorNames, suffixedSlug, validDefinition, withPhotoKey, withoutPhotoKey } from "../panels/definition";
 import { photoExtension, preparePhoto, readRawBody } from "../panels/photo";
 import { recordingColumnsOf } from "../recordings/read";
+import { nextTurn } from "../turns";
 import { findAirframe } from "./airframes";
 
 const workshopParams = z.object({ workshopId: entityId });
@@ -421,7 +422,7 @@ export function panelsRouter(services: Services) {
     const row = await findPanel(workshopId, panelId);
     const rec = await recordingForPanel(workshopId, recordingId, row);
     const columns = await recordingColumnsOf(db, rec.id, panelChannels(row.definition));
-    const timelines = expectTimelines(row.definition, columns, { endMs: Math.max(rec.durationMs, columns.lastT) });
+    const timelines = await expectTimelinesInTurns(row.definition, columns, { endMs: Math.max(rec.durationMs, columns.lastT), turn: nextTurn });
     const view: ExpectedView = {
       panelId: row.id,
       recordingId: rec.id,

@@ -18,7 +18,7 @@ import { diffHeadline, diffRuns, passRate } from "../../shared/compare/run-diff"
 import type { ElementStatus } from "../../shared/compare/types";
 import { panelCoverage } from "../../shared/expect/coverage";
 import { timelinesWithin } from "../../shared/expect/window";
-import { expectTimelines } from "../../shared/expect/engine";
+import { expectTimelinesInTurns } from "../../shared/expect/engine";
 import { normalizeAngle } from "../../shared/elements/scale/scale";
 import { member as memberTable, panel, recording, run, runElementResult, shareLink, user } from "../db/schema";
 import { requireActor, requireMembership, type Services } from "../http/context";
@@ -31,6 +31,7 @@ import { elementRowsOf, exportOf, recordingNameOf, summaryOf } from "../bench/re
 import { EMPTY_COUNTS, loadRecordingColumns, seenLogOf } from "../bench/store";
 import { runReportMail } from "../mail/templates";
 import { hashShareToken, sharedRunOf } from "./shared-link";
+import { nextTurn } from "../turns";
 
 type RunRow = typeof run.$inferSelect;
 
@@ -80,7 +81,6 @@ async function expectedJsonOf(services: Services, row: RunRow): Promise<string> 
   return entry.json;
 }
 
-const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
 
 async function computeExpectedView(services: Services, row: RunRow): Promise<RunExpectedView> {
   const fromMs = row.segment?.fromMs ?? 0;
@@ -92,7 +92,7 @@ async function computeExpectedView(services: Services, row: RunRow): Promise<Run
     await nextTurn();
     // What the run judged: its segment, up to where it got. Coverage read from the whole recording
     // would credit a segment run with what it never played.
-    const timelines = timelinesWithin(expectTimelines(p.definition, rec.columns, { endMs: rec.durationMs }), fromMs, toMs);
+    const timelines = timelinesWithin(await expectTimelinesInTurns(p.definition, rec.columns, { endMs: rec.durationMs, turn: nextTurn }), fromMs, toMs);
     panels.push({
       panelId: p.panelId,
       name: p.name,

@@ -263,3 +263,31 @@ export function judgeOffline(
   for (const s of seen) judge.addSeen(s.elementId, s.sample);
   return judge.finish();
 }
+
+/**
+ * `judgeOffline` giving the caller a turn whenever `sliceMs` (default 8) of work has gone by, so a
+ * server judging an hour-long run (about a second and a half) never holds a live run's replay or
+ * other requests for long. Same calls in the same order, so the same judgement.
+ */
+export async function judgeOfflineInTurns(
+  timelines: ExpectedTimelines,
+  seen: readonly { elementId: string; sample: SeenSample }[],
+  gaps: { elementIds: string[]; gap: LinkGap }[],
+  tolerances: (elementId: string) => Tolerances,
+  options: { sliceMs?: number; turn?: () => Promise<void> } = {},
+): Promise<RunJudgement> {
+  const sliceMs = options.sliceMs ?? 8;
+  const turn = options.turn ?? (() => new Promise<void>((resolve) => setTimeout(resolve, 0)));
+  const judge = new RunJudge(timelines, tolerances);
+  for (const g of gaps) judge.addGap(g.elementIds, g.gap);
+  let sliceStart = performance.now();
+  for (let i = 0; i < seen.length; i++) {
+    judge.addSeen(seen[i].elementId, seen[i].sample);
+    // The clock is read every 1,024 reports (a few tens of microseconds of work).
+    if ((i & 1023) === 1023 && performance.now() - sliceStart >= sliceMs) {
+      await turn();
+      sliceStart = performance.now();
+    }
+  }
+  return judge.finish();
+}

@@ -96,21 +96,15 @@ export function expectTimelines(
   recording: Iterable<ExpectFrame> | RecordingColumns,
   options: ExpectOptions = {},
 ): ExpectedTimelines {
-  const build = buildOf(options, new MemoTables());
-  const runners = panel.elements.map((el) => {
-    if (el.kind !== "switch" || !el.springReturn) return compileElement(el, build);
-    // Only a spring-loaded switch has a delay: an actor on a clock of its own.
-    const clock = new SimulatedClock();
-    return { ...compileElement(el, { ...build, clock }), clock };
-  });
-  const startMs = 0;
   if (recording instanceof RecordingColumns) {
-    // The whole recording is in columns already: each element plays its channels once, through.
-    const feeds = runners.map((runner) => new ElementFeed(runner, recording));
-    for (const runner of runners) runner.start(startMs);
-    for (let i = 0; i < feeds.length; i++) feeds[i].play();
-    return finishRunners(panel, runners, startMs, Math.max(startMs, recording.lastT), options);
+    const steps = playColumns(panel, recording, options);
+    for (;;) {
+      const step = steps.next();
+      if (step.done) return step.value;
+    }
   }
+  const runners = compileRunners(panel, options);
+  const startMs = 0;
   const frames = recording;
   const columns = new ChannelColumns();
   const feeds = runners.map((runner) => new ElementFeed(runner, columns));
@@ -154,14 +148,72 @@ export function expectTimelines(
   return finishRunners(panel, runners, startMs, last, options);
 }
 
+/**
+ * `expectTimelines` over columns, giving the event loop a turn whenever `sliceMs` (default 8) of
+ * work has gone by: elements are computed one at a time, so a server computing a panel-hour (about
+ * two thirds of a second) never holds a live run's replay, or any other request, for longer than
+ * about one element. `turn` waits for the next turn (default: a zero timeout; the server passes
+ * setImmediate). Same timelines as `expectTimelines`.
+ */
+export async function expectTimelinesInTurns(
+  panel: Pick<Panel, "id" | "elements">,
+  recording: RecordingColumns,
+  options: ExpectOptions & { sliceMs?: number; turn?: () => Promise<void> } = {},
+): Promise<ExpectedTimelines> {
+  const sliceMs = options.sliceMs ?? 8;
+  const turn = options.turn ?? (() => new Promise<void>((resolve) => setTimeout(resolve, 0)));
+  const steps = playColumns(panel, recording, options);
+  let sliceStart = performance.now();
+  for (;;) {
+    const step = steps.next();
+    if (step.done) return step.value;
+    if (performance.now() - sliceStart >= sliceMs) {
+      await turn();
+      sliceStart = performance.now();
+    }
+  }
+}
+
+function compileRunners(panel: Pick<Panel, "elements">, options: ExpectOptions): Runner[] {
+  const build = buildOf(options, new MemoTables());
+  return panel.elements.map((el) => {
+    if (el.kind !== "switch" || !el.springReturn) return compileElement(el, build);
+    // Only a spring-loaded switch has a delay: an actor on a clock of its own.
+    const clock = new SimulatedClock();
+    return { ...compileElement(el, { ...build, clock }), clock };
+  });
+}
+
+/**
+ * The whole recording is in columns already: each element plays its channels once, start to end,
+ * and is finished at once (its track buffers go back for the next element). Yields after each
+ * element; elements are independent, so the order changes nothing.
+ */
+function* playColumns(panel: Pick<Panel, "id" | "elements">, recording: RecordingColumns, options: ExpectOptions): Generator<void, ExpectedTimelines> {
+  const runners = compileRunners(panel, options);
+  const startMs = 0;
+  const last = Math.max(startMs, recording.lastT);
+  const endMs = Math.max(options.endMs ?? last, last);
+  for (const runner of runners) {
+    runner.start(startMs);
+    new ElementFeed(runner, recording).play();
+    finishRunner(runner, endMs);
+    yield;
+  }
+  return { panelId: panel.id, startMs, endMs, elements: runners.map((r) => r.timeline) };
+}
+
+/** Runs an element's clock to the end and closes its tracks. */
+function finishRunner(runner: Runner, endMs: number): void {
+  if (runner.clock) advanceClockTo(runner.clock, endMs, runner.afterTimers);
+  runner.finish(endMs);
+  runner.stop();
+}
+
 /** Runs every element's clock to the end, closes its tracks: the timelines. */
 function finishRunners(panel: Pick<Panel, "id">, runners: Runner[], startMs: number, last: number, options: ExpectOptions): ExpectedTimelines {
   const endMs = Math.max(options.endMs ?? last, last);
-  for (const runner of runners) {
-    if (runner.clock) advanceClockTo(runner.clock, endMs, runner.afterTimers);
-    runner.finish(endMs);
-    runner.stop();
-  }
+  for (const runner of runners) finishRunner(runner, endMs);
   return { panelId: panel.id, startMs, endMs, elements: runners.map((r) => r.timeline) };
 }
 

@@ -2,7 +2,7 @@ import fc from "fast-check";
 import { quantileSorted } from "simple-statistics";
 import { describe, expect, it } from "vitest";
 import { seenMemory } from "../../../shared/compare/seen-memory";
-import { ElementJudge, RunJudge, judgeOffline } from "../../../shared/compare/judge";
+import { ElementJudge, RunJudge, judgeOffline, judgeOfflineInTurns } from "../../../shared/compare/judge";
 import { quantileOfSorted } from "../../../shared/compare/statistics";
 import type { SeenSample, Tolerances } from "../../../shared/compare/types";
 import type { ElementTimeline, ExpectedTimelines, LampShows } from "../../../shared/expect/types";
@@ -251,6 +251,24 @@ describe("live judging equals offline judging", () => {
       }),
       { numRuns: 200 },
     );
+  });
+
+  it("judging in turns gives the same judgement, with turns between slices of reports", async () => {
+    fc.assert(
+      fc.asyncProperty(arbitrarySeen, async (raw) => {
+        const samples = toSamples(raw);
+        let turns = 0;
+        const inTurns = await judgeOfflineInTurns(timelines, samples, [], tolerances, { sliceMs: 0, turn: async () => void turns++ });
+        expect(inTurns).toEqual(judgeOffline(timelines, samples, [], tolerances));
+        expect(turns).toBe(Math.floor(samples.length / 1024));
+      }),
+      { numRuns: 50 },
+    );
+    // Enough reports for turns: one every 1,024 reports with a zero slice.
+    const many = Array.from({ length: 5000 }, (_, i) => ({ elementId: "needle", sample: { t: i, shows: { track: "angle" as const, angle: 10 + (290 * i) / 3000 } } }));
+    let turns = 0;
+    expect(await judgeOfflineInTurns(timelines, many, [], tolerances, { sliceMs: 0, turn: async () => void turns++ })).toEqual(judgeOffline(timelines, many, [], tolerances));
+    expect(turns).toBe(4);
   });
 
   it("a seen log equal to the expected timeline never mismatches", () => {

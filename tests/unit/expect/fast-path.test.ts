@@ -2,7 +2,7 @@ import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import type { BoundValue } from "../../../shared/elements/bindings";
 import type { ElementInput } from "../../../shared/elements/kinds";
-import { expectTimelines, expectTimelinesStepwise, FRAMES_PER_CHUNK, RecordingColumns, type ExpectFrame } from "../../../shared/expect";
+import { expectTimelines, expectTimelinesInTurns, expectTimelinesStepwise, FRAMES_PER_CHUNK, RecordingColumns, type ExpectFrame } from "../../../shared/expect";
 import { demoPanels } from "../../../shared/panel/demo";
 import { panelChannels } from "../../../shared/panel/schema";
 import { panelOf } from "./helpers";
@@ -144,5 +144,23 @@ describe("spare track buffers between computations", () => {
       expect(JSON.stringify(expectTimelines(p, frames)), `round ${round}`).toBe(reference);
       expect(JSON.stringify(expectTimelines(p, RecordingColumns.of(frames))), `round ${round}, columns`).toBe(reference);
     }
+  });
+});
+
+describe("computing in turns", () => {
+  it("gives the same timelines, giving the caller a turn between elements once a slice is used", async () => {
+    const p = panelOf(...mixedElements);
+    const frames: ExpectFrame[] = [];
+    for (let i = 0; i < 3000; i++) frames.push({ t: i * 20, v: { a: 50 + 45 * Math.sin(i / 90), b: (i * 0.37) % 150, ...(i % 150 === 0 ? { bus: i % 300 === 0, d1: i % 450 === 0, mode: ["x", "y", "off"][i % 3] } : {}) } });
+    const columns = RecordingColumns.of(frames, panelChannels(p));
+    const reference = JSON.stringify(expectTimelinesStepwise(p, frames, { endMs: 70_000 }));
+    let turns = 0;
+    const inTurns = await expectTimelinesInTurns(p, columns, { endMs: 70_000, sliceMs: 0, turn: async () => void turns++ });
+    expect(JSON.stringify(inTurns)).toBe(reference);
+    expect(turns).toBe(p.elements.length);
+    // With the default slice the whole panel may fit in one: never more turns than elements.
+    turns = 0;
+    expect(JSON.stringify(await expectTimelinesInTurns(p, columns, { endMs: 70_000, turn: async () => void turns++ }))).toBe(reference);
+    expect(turns).toBeLessThanOrEqual(p.elements.length);
   });
 });
