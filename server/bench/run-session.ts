@@ -10,8 +10,9 @@ import type { InputEntry } from "../../shared/link/messages";
 import { RunJudge, tolerancesOf } from "../../shared/compare/judge";
 import type { ElementStatus, LinkGap, Mismatch, Tolerances } from "../../shared/compare/types";
 import type { Element } from "../../shared/elements/kinds";
-import { expectTimelines } from "../../shared/expect/engine";
+import { expectTimelinesInTurns } from "../../shared/expect/engine";
 import { RecordingColumns } from "../../shared/expect/recording-columns";
+import { nextTurn } from "../turns";
 import type { ExpectedTimelines } from "../../shared/expect/types";
 import type { LinkFrame } from "../../shared/link/messages";
 import { panelChannels } from "../../shared/panel/schema";
@@ -155,6 +156,8 @@ export class RunSession {
     durationMs: number,
     channels: ChannelDefinition[],
     nextChunk: number,
+    /** Every panel's expected timelines over the whole recording, in row.panels' order. */
+    expected: readonly ExpectedTimelines[],
   ) {
     this.runId = row.id;
     this.fromMs = row.segment?.fromMs ?? 0;
@@ -165,13 +168,9 @@ export class RunSession {
     this.chunk = nextChunk;
     const base = new ArrayFrameSource(frames, durationMs);
     const source = new WindowSource(base, this.endMs);
-    // The frames once into columns of the channels the run's panels bind, then each panel from
-    // them: quicker than each panel reading the frame objects (docs/behaviours.md, "Speed").
-    const columns = RecordingColumns.of(frames, row.panels.flatMap((p) => panelChannels(p.definition)));
-    for (const snapshot of row.panels) {
+    for (const [index, snapshot] of row.panels.entries()) {
       const def = snapshot.definition;
-      const full = expectTimelines(def, columns, { endMs: durationMs });
-      const timelines: ExpectedTimelines = { ...full, startMs: this.fromMs, endMs: this.endMs };
+      const timelines: ExpectedTimelines = { ...expected[index], startMs: this.fromMs, endMs: this.endMs };
       const byId = new Map(def.elements.map((el) => [el.id, el]));
       const stored = row.linkStatus.find((l) => l.panelId === snapshot.panelId);
       const linkInput = row.links.find((l) => l.panelId === snapshot.panelId)!;
@@ -219,7 +218,12 @@ export class RunSession {
   static async open(deps: SessionDeps, row: RunRow, loaded: { frames: Frame[]; durationMs: number; channels: ChannelDefinition[] }): Promise<RunSession> {
     const chunks = await deps.db.select({ chunk: seenLog.chunk }).from(seenLog).where(eq(seenLog.runId, row.id));
     const next = chunks.reduce((m, c) => Math.max(m, c.chunk + 1), 0);
-    const session = new RunSession(deps, row, loaded.frames, loaded.durationMs, loaded.channels, next);
+    // The frames once into columns of the channels the run's panels bind, then each panel from
+    // them in turns, so other runs on this server keep their timing (docs/behaviours.md, "Speed").
+    const columns = RecordingColumns.of(loaded.frames, row.panels.flatMap((p) => panelChannels(p.definition)));
+    const expected: ExpectedTimelines[] = [];
+    for (const p of row.panels) expected.push(await expectTimelinesInTurns(p.definition, columns, { endMs: loaded.durationMs, turn: nextTurn }));
+    const session = new RunSession(deps, row, loaded.frames, loaded.durationMs, loaded.channels, next, expected);
     await session.openLinks();
     return session;
   }
