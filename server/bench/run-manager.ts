@@ -13,7 +13,7 @@ import { runPolicy } from "../policies/run";
 import type { UpgradeRouter } from "../realtime/upgrades";
 import { panelForDeviceToken } from "../routes/panels";
 import { RunSession } from "./run-session";
-import { judgeRun, loadRecording } from "./store";
+import { judgeRun, loadRecordingSegments } from "./store";
 
 export const BENCH_WS_PREFIX = "/ws/bench/runs";
 export const WATCH_WS_PREFIX = "/ws/runs";
@@ -83,14 +83,14 @@ export class RunManager {
     return row.heldBy && row.heldBy !== this.processId && fresh ? row.state : "interrupted";
   }
 
-  /** The run's session in this process, opened (frames loaded, links opened) when needed. */
+  /** The run's session in this process, opened (segments loaded, links opened) when needed. */
   async ensureSession(row: RunRow): Promise<RunSession> {
     const existing = this.sessions.get(row.id);
     if (existing) return existing;
     const pending = this.opening.get(row.id);
     if (pending) return pending;
     const opening = (async () => {
-      const loaded = await loadRecording(this.deps.db, row.recordingId);
+      const loaded = await loadRecordingSegments(this.deps.db, row.recordingId);
       const session = await RunSession.open(
         {
           db: this.deps.db,

@@ -18,7 +18,10 @@ import type { LinkFrame } from "../../shared/link/messages";
 import { panelChannels } from "../../shared/panel/schema";
 import type { ChannelDefinition } from "../../shared/recording/channels";
 import type { ChannelState, Frame } from "../../shared/recording/frames";
-import { ArrayFrameSource, type FrameSource } from "../../shared/replay/frame-source";
+import type { FrameSource } from "../../shared/replay/frame-source";
+import { SegmentFrameSource, type StoredSegment } from "../../shared/replay/segment-source";
+import { decodeSegment, decodeSegmentInto } from "../../shared/recording/segments";
+import { nativeInflate } from "../recordings/native-deflate";
 import { Player } from "../../shared/replay/player";
 import { performanceClock } from "../../shared/replay/virtual-clock";
 import type { Database } from "../db/client";
@@ -115,7 +118,8 @@ export interface SessionDeps {
 }
 
 /**
- * One running run in this process: the recording's frames, expected timelines per panel, a
+ * One running run in this process: the recording's stored segments (frames read from them as the
+ * player goes), expected timelines per panel, a
  * player on the virtual clock woken by the replay scheduler, a link per panel, and a live judge
  * per panel fed with what the links report. Reports are stamped on arrival with the bench's
  * monotonic clock, read through the virtual clock as recording time. The raw reports go to the
@@ -152,7 +156,7 @@ export class RunSession {
   private constructor(
     private readonly deps: SessionDeps,
     row: RunRow,
-    frames: Frame[],
+    segments: readonly StoredSegment[],
     durationMs: number,
     channels: ChannelDefinition[],
     nextChunk: number,
@@ -166,7 +170,9 @@ export class RunSession {
     this.cuts = [...row.cuts];
     this.epoch = this.cuts.reduce((m, c) => Math.max(m, c.epoch), 0);
     this.chunk = nextChunk;
-    const base = new ArrayFrameSource(frames, durationMs);
+    // Frames are read from the stored segments as the player reaches them (decoded with Node's own
+    // zlib), never held all at once.
+    const base = new SegmentFrameSource(segments, durationMs, 4, (payload) => decodeSegment(payload, nativeInflate));
     const source = new WindowSource(base, this.endMs);
     for (const [index, snapshot] of row.panels.entries()) {
       const def = snapshot.definition;
@@ -214,16 +220,20 @@ export class RunSession {
     this.persistTimer = setInterval(() => this.persist(), 1000);
   }
 
-  /** Loads what the run needs (frames by segment reads) and opens its links. */
-  static async open(deps: SessionDeps, row: RunRow, loaded: { frames: Frame[]; durationMs: number; channels: ChannelDefinition[] }): Promise<RunSession> {
+  /** Loads what the run needs (the recording's segments, as stored) and opens its links. */
+  static async open(deps: SessionDeps, row: RunRow, loaded: { segments: StoredSegment[]; durationMs: number; channels: ChannelDefinition[] }): Promise<RunSession> {
     const chunks = await deps.db.select({ chunk: seenLog.chunk }).from(seenLog).where(eq(seenLog.runId, row.id));
     const next = chunks.reduce((m, c) => Math.max(m, c.chunk + 1), 0);
-    // The frames once into columns of the channels the run's panels bind, then each panel from
+    // The segments once into columns of the channels the run's panels bind, then each panel from
     // them in turns, so other runs on this server keep their timing (docs/behaviours.md, "Speed").
-    const columns = RecordingColumns.of(loaded.frames, row.panels.flatMap((p) => panelChannels(p.definition)));
+    const columns = new RecordingColumns(row.panels.flatMap((p) => panelChannels(p.definition)));
+    for (let i = 0; i < loaded.segments.length; i++) {
+      decodeSegmentInto(loaded.segments[i].payload, columns, nativeInflate);
+      if (i % 32 === 31) await nextTurn();
+    }
     const expected: ExpectedTimelines[] = [];
     for (const p of row.panels) expected.push(await expectTimelinesInTurns(p.definition, columns, { endMs: loaded.durationMs, turn: nextTurn }));
-    const session = new RunSession(deps, row, loaded.frames, loaded.durationMs, loaded.channels, next, expected);
+    const session = new RunSession(deps, row, loaded.segments, loaded.durationMs, loaded.channels, next, expected);
     await session.openLinks();
     return session;
   }

@@ -8,7 +8,6 @@ import { expectTimelinesInTurns } from "../../shared/expect/engine";
 import type { RecordingColumns } from "../../shared/expect/recording-columns";
 import { panelChannels, type Panel } from "../../shared/panel/schema";
 import type { ChannelDefinition } from "../../shared/recording/channels";
-import type { Frame } from "../../shared/recording/frames";
 import type pg from "pg";
 import type { Database } from "../db/client";
 import { copyField, copyFrom, withClientTransaction } from "../db/copy";
@@ -16,7 +15,10 @@ import { warmMismatchJson } from "./mismatch-json";
 import { mismatch, recording, run, runElementResult, seenLog } from "../db/schema";
 void mismatch;
 import type { DbOrTx } from "../recordings/writer";
-import { framesOf, recordingColumnsOf } from "../recordings/read";
+import { recordingColumnsOf, storedSegmentsOf } from "../recordings/read";
+import { nativeInflate } from "../recordings/native-deflate";
+import { decodeSegment } from "../../shared/recording/segments";
+import type { StoredSegment } from "../../shared/replay/segment-source";
 import { decodeSeenChunk, type SeenRecord } from "./seen-log";
 import { nextTurn } from "../turns";
 
@@ -24,13 +26,21 @@ type RunRow = typeof run.$inferSelect;
 
 export const EMPTY_COUNTS: Record<ElementStatus, number> = { pass: 0, fail: 0, untested: 0, no_data: 0, placeholder: 0 };
 
-/** A recording's frames, read segment by segment, with what a run needs beside them. */
-export async function loadRecording(db: DbOrTx, recordingId: string): Promise<{ frames: Frame[]; durationMs: number; channels: ChannelDefinition[]; name: string }> {
+/**
+ * A recording's stored segments (compressed, as stored), with what a run needs beside them: a
+ * run's player reads its frames from them as it goes (shared/replay/segment-source.ts), so a run
+ * never holds the whole recording as frame objects.
+ */
+export async function loadRecordingSegments(
+  db: DbOrTx,
+  recordingId: string,
+): Promise<{ segments: StoredSegment[]; durationMs: number; channels: ChannelDefinition[]; name: string }> {
   const [rec] = await db.select({ durationMs: recording.durationMs, channels: recording.channels, name: recording.name }).from(recording).where(eq(recording.id, recordingId));
   if (!rec) throw new Error(`recording ${recordingId} is gone`);
-  const frames: Frame[] = [];
-  for await (const batch of framesOf(db, recordingId)) for (const f of batch) frames.push(f);
-  return { frames, durationMs: Math.max(rec.durationMs, frames.at(-1)?.t ?? 0), channels: rec.channels, name: rec.name };
+  const segments: StoredSegment[] = [];
+  for await (const segment of storedSegmentsOf(db, recordingId)) segments.push(segment);
+  const lastFrame = segments.length ? decodeSegment(segments[segments.length - 1].payload, nativeInflate).frames.at(-1) : undefined;
+  return { segments, durationMs: Math.max(rec.durationMs, lastFrame?.t ?? 0), channels: rec.channels, name: rec.name };
 }
 
 /**

@@ -32,20 +32,25 @@ export async function stateAtInstant(db: DbOrTx, recordingId: string, t: number)
   return { state, segmentsRead: 1 };
 }
 
-/** Every segment's payload, in order, reading `batch` segment rows at a time. */
-async function* segmentPayloadsOf(db: DbOrTx, recordingId: string, batch: number): AsyncGenerator<Uint8Array> {
+/** Every stored segment (where it starts, its payload), in order, reading `batch` rows at a time. */
+export async function* storedSegmentsOf(db: DbOrTx, recordingId: string, batch = 32): AsyncGenerator<{ startMs: number; payload: Uint8Array }> {
   let next = 0;
   for (;;) {
     const rows = await db
-      .select({ index: recordingSegment.index, payload: recordingSegment.payload })
+      .select({ index: recordingSegment.index, startMs: recordingSegment.startMs, payload: recordingSegment.payload })
       .from(recordingSegment)
       .where(and(eq(recordingSegment.recordingId, recordingId), gte(recordingSegment.index, next)))
       .orderBy(asc(recordingSegment.index))
       .limit(batch);
     if (rows.length === 0) return;
-    for (const row of rows) yield row.payload;
+    for (const row of rows) yield { startMs: row.startMs, payload: row.payload };
     next = rows[rows.length - 1].index + 1;
   }
+}
+
+/** Every segment's payload, in order. */
+async function* segmentPayloadsOf(db: DbOrTx, recordingId: string, batch: number): AsyncGenerator<Uint8Array> {
+  for await (const segment of storedSegmentsOf(db, recordingId, batch)) yield segment.payload;
 }
 
 /** Every frame, in order, a segment's at a time (for downloads). */

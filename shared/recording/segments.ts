@@ -93,8 +93,9 @@ function parseSegment(payload: Uint8Array, inflate: (bytes: Uint8Array) => Uint8
   return json;
 }
 
-export function decodeSegment(payload: Uint8Array): DecodedSegment {
-  const json = parseSegment(payload, inflateSync);
+/** A segment's keyframe and frames. `inflate` may be a faster native inflater (raw DEFLATE). */
+export function decodeSegment(payload: Uint8Array, inflate: (bytes: Uint8Array) => Uint8Array = inflateSync): DecodedSegment {
+  const json = parseSegment(payload, inflate);
   const keyframe = emptyState();
   for (let i = 0; i < json.k.length; i += 2) keyframe[json.c[json.k[i] as number]] = json.k[i + 1];
   const frames = json.f.map((row) => {

@@ -2,7 +2,7 @@ import { emptyState, type ChannelState, type Frame } from "../recording/frames";
 
 /**
  * Where a player reads frames from. The server's source reads one stored segment (a
- * keyframe plus deltas) per seek; tests and the browser use an array in memory.
+ * keyframe plus deltas) per seek (segment-source.ts); tests and the browser use an array in memory.
  */
 export interface FrameSource {
   readonly durationMs: number;
