@@ -68,3 +68,33 @@ export function decodeSeenChunk(payload: Uint8Array): SeenRecord[] {
   const doc = JSON.parse(strFromU8(inflateSync(payload))) as { v: number; e: string[]; s: Row[] };
   return doc.s.map((row) => ({ elementId: doc.e[row[1]], sample: { t: row[0], shows: showsOf(row) } }));
 }
+
+/**
+ * A panel's seen log put back together from its chunks: reports a later pass replaced are left
+ * out (a chunk of an earlier epoch keeps only what came before the first later cut), and the rest
+ * is in time order. One pass is stamped in arrival order, already in time order, so the usual
+ * case needs no sort; when the chunks do overlap the sort is stable (reports of one element keep
+ * their order).
+ */
+export class SeenLogMerger {
+  private readonly out: SeenRecord[] = [];
+  private inOrder = true;
+  private lastT = -Infinity;
+
+  constructor(private readonly cuts: readonly { epoch: number; atMs: number }[]) {}
+
+  add(epoch: number, records: Iterable<SeenRecord>): void {
+    let limit = Infinity;
+    for (const cut of this.cuts) if (cut.epoch > epoch && cut.atMs < limit) limit = cut.atMs;
+    for (const r of records) {
+      if (r.sample.t >= limit) continue;
+      if (r.sample.t < this.lastT) this.inOrder = false;
+      this.lastT = r.sample.t;
+      this.out.push(r);
+    }
+  }
+
+  result(): SeenRecord[] {
+    return this.inOrder ? this.out : this.out.sort((a, b) => a.sample.t - b.sample.t);
+  }
+}

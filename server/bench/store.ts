@@ -19,7 +19,7 @@ import { recordingColumnsOf, storedSegmentsOf } from "../recordings/read";
 import { nativeInflate } from "../recordings/native-deflate";
 import { decodeSegment } from "../../shared/recording/segments";
 import type { StoredSegment } from "../../shared/replay/segment-source";
-import { decodeSeenChunk, type SeenRecord } from "./seen-log";
+import { decodeSeenChunk, SeenLogMerger, type SeenRecord } from "./seen-log";
 import { nextTurn } from "../turns";
 
 type RunRow = typeof run.$inferSelect;
@@ -66,14 +66,14 @@ export async function seenLogOf(db: DbOrTx, row: RunRow, panelId: string): Promi
     .from(seenLog)
     .where(and(eq(seenLog.runId, row.id), eq(seenLog.panelId, panelId)))
     .orderBy(asc(seenLog.chunk));
-  const out: SeenRecord[] = [];
+  const merged = new SeenLogMerger(row.cuts);
   for (const c of chunks) {
-    const cuts = row.cuts.filter((cut) => cut.epoch > c.epoch);
-    const limit = cuts.length ? Math.min(...cuts.map((cut) => cut.atMs)) : Infinity;
-    for (const r of decodeSeenChunk(c.payload)) if (r.sample.t < limit) out.push(r);
+    merged.add(c.epoch, decodeSeenChunk(c.payload));
+    // An hour's log is millions of reports (chunks of 20,000): other requests and live runs get
+    // a turn after each chunk.
+    await nextTurn();
   }
-  // Stable: reports of one element keep their order; chunks of later passes start after the cut.
-  return out.map((r, i) => ({ r, i })).sort((a, b) => a.r.sample.t - b.r.sample.t || a.i - b.i).map((x) => x.r);
+  return merged.result();
 }
 
 export interface PanelJudgement {
