@@ -74,6 +74,8 @@ async function emulate(runId: string, pid: string, def: Panel, faults: Fault[] =
   return hostOnWebSocket(emulator, linkUrl(runId, pid), browserHeaders());
 }
 
+let busAttempts = 0;
+
 async function playToEnd(runId: string) {
   await waitFor("the link to connect", () => detail(runId), (d) => d.links.every((l: { connected: boolean }) => l.connected));
   expect((await control(runId, { action: "play" })).status).toBe(200);
@@ -349,7 +351,9 @@ describe("serial and RS-485 links over a socat pty pair", () => {
 
   it("RS-485: three emulated devices at different addresses on one port", async () => {
     const pty = await openPtyPair();
-    const panels = [{ id: panelId, definition }, await makePanel("bus-b", "Bus B"), await makePanel("bus-c", "Bus C")];
+    // Fresh panel ids on every attempt, so a retry of this timing-sensitive test can run at all.
+    const attempt = ++busAttempts;
+    const panels = [{ id: panelId, definition }, await makePanel(`bus-b-${attempt}`, "Bus B"), await makePanel(`bus-c-${attempt}`, "Bus C")];
     const emulators = panels.map((p, i) => new PanelEmulator({ panel: p.definition, channels, address: i + 1, timeScale: SPEED }));
     const host = await hostOnSerial(emulators, pty.b);
     try {
@@ -360,7 +364,7 @@ describe("serial and RS-485 links over a socat pty pair", () => {
       await control(runId, { action: "pause" });
       const done = await playToEnd(runId);
       expect(done.elements).toHaveLength(15);
-      expect(done.counts).toMatchObject({ pass: 15, fail: 0 });
+      expect(done.counts, JSON.stringify({ counts: done.counts, links: done.links })).toMatchObject({ pass: 15, fail: 0 });
       expect(new Set(done.elements.map((e: { panelId: string }) => e.panelId)).size).toBe(3);
     } finally {
       await host.close();
