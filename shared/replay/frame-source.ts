@@ -15,7 +15,7 @@ export interface FrameSource {
 }
 
 /** Index of the first frame with time > t (frames sorted by time). */
-function firstAfter(frames: readonly Frame[], t: number): number {
+export function firstAfter(frames: readonly Frame[], t: number): number {
   let lo = 0;
   let hi = frames.length;
   while (lo < hi) {

@@ -1,23 +1,11 @@
 import { emptyState, type ChannelState, type Frame } from "../recording/frames";
 import { decodeSegment, findSegmentIndex, type DecodedSegment } from "../recording/segments";
-import type { FrameSource } from "./frame-source";
+import { firstAfter, type FrameSource } from "./frame-source";
 
 /** A stored segment as the source needs it: where it starts and its payload (shared/recording/segments.ts). */
 export interface StoredSegment {
   startMs: number;
   payload: Uint8Array;
-}
-
-/** Index of the first frame with time > t (frames sorted by time). */
-function firstAfter(frames: readonly Frame[], t: number): number {
-  let lo = 0;
-  let hi = frames.length;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (frames[mid].t <= t) lo = mid + 1;
-    else hi = mid;
-  }
-  return lo;
 }
 
 /**
