@@ -231,9 +231,11 @@ export class RunSession {
       decodeSegmentInto(loaded.segments[i].payload, columns, nativeInflate);
       if (i % 32 === 31) await nextTurn();
     }
+    // The recording lasts at least to its last frame, whatever its row says.
+    const durationMs = Math.max(loaded.durationMs, columns.lastT);
     const expected: ExpectedTimelines[] = [];
-    for (const p of row.panels) expected.push(await expectTimelinesInTurns(p.definition, columns, { endMs: loaded.durationMs, turn: nextTurn }));
-    const session = new RunSession(deps, row, loaded.segments, loaded.durationMs, loaded.channels, next, expected);
+    for (const p of row.panels) expected.push(await expectTimelinesInTurns(p.definition, columns, { endMs: durationMs, turn: nextTurn }));
+    const session = new RunSession(deps, row, loaded.segments, durationMs, loaded.channels, next, expected);
     await session.openLinks();
     return session;
   }

@@ -16,8 +16,6 @@ import { mismatch, recording, run, runElementResult, seenLog } from "../db/schem
 void mismatch;
 import type { DbOrTx } from "../recordings/writer";
 import { recordingColumnsOf, storedSegmentsOf } from "../recordings/read";
-import { nativeInflate } from "../recordings/native-deflate";
-import { decodeSegment } from "../../shared/recording/segments";
 import type { StoredSegment } from "../../shared/replay/segment-source";
 import { decodeSeenChunk, SeenLogMerger, type SeenRecord } from "./seen-log";
 import { nextTurn } from "../turns";
@@ -35,12 +33,18 @@ export async function loadRecordingSegments(
   db: DbOrTx,
   recordingId: string,
 ): Promise<{ segments: StoredSegment[]; durationMs: number; channels: ChannelDefinition[]; name: string }> {
-  const [rec] = await db.select({ durationMs: recording.durationMs, channels: recording.channels, name: recording.name }).from(recording).where(eq(recording.id, recordingId));
-  if (!rec) throw new Error(`recording ${recordingId} is gone`);
+  const rec = await recordingRowOf(db, recordingId);
   const segments: StoredSegment[] = [];
   for await (const segment of storedSegmentsOf(db, recordingId)) segments.push(segment);
-  const lastFrame = segments.length ? decodeSegment(segments[segments.length - 1].payload, nativeInflate).frames.at(-1) : undefined;
-  return { segments, durationMs: Math.max(rec.durationMs, lastFrame?.t ?? 0), channels: rec.channels, name: rec.name };
+  // The stored duration; the session stretches it to the last frame once it has read them all.
+  return { segments, ...rec };
+}
+
+/** What a run needs of a recording's row. */
+async function recordingRowOf(db: DbOrTx, recordingId: string): Promise<{ durationMs: number; channels: ChannelDefinition[]; name: string }> {
+  const [rec] = await db.select({ durationMs: recording.durationMs, channels: recording.channels, name: recording.name }).from(recording).where(eq(recording.id, recordingId));
+  if (!rec) throw new Error(`recording ${recordingId} is gone`);
+  return rec;
 }
 
 /**
@@ -53,8 +57,7 @@ export async function loadRecordingColumns(
   recordingId: string,
   panels: readonly Pick<Panel, "elements">[],
 ): Promise<{ columns: RecordingColumns; durationMs: number; channels: ChannelDefinition[]; name: string }> {
-  const [rec] = await db.select({ durationMs: recording.durationMs, channels: recording.channels, name: recording.name }).from(recording).where(eq(recording.id, recordingId));
-  if (!rec) throw new Error(`recording ${recordingId} is gone`);
+  const rec = await recordingRowOf(db, recordingId);
   const columns = await recordingColumnsOf(db, recordingId, panels.flatMap((p) => panelChannels(p)));
   return { columns, durationMs: Math.max(rec.durationMs, columns.lastT), channels: rec.channels, name: rec.name };
 }

@@ -3,7 +3,7 @@ import type { SeriesView } from "../../shared/api/recordings";
 import type { ChannelDefinition, ChannelValue } from "../../shared/recording/channels";
 import { emptyState, type ChannelState, type Frame } from "../../shared/recording/frames";
 import { RecordingColumns } from "../../shared/expect/recording-columns";
-import { decodeSegment, decodeSegmentInto } from "../../shared/recording/segments";
+import { decodeSegment, decodeSegmentInto, stateInSegment } from "../../shared/recording/segments";
 import { nativeInflate } from "./native-deflate";
 import { recordingSegment } from "../db/schema";
 import type { DbOrTx } from "./writer";
@@ -23,13 +23,7 @@ export async function stateAtInstant(db: DbOrTx, recordingId: string, t: number)
     .orderBy(desc(recordingSegment.startMs), desc(recordingSegment.index))
     .limit(1);
   if (!row) return { state: emptyState(), segmentsRead: 0 };
-  const decoded = decodeSegment(row.payload);
-  const state = decoded.keyframe;
-  for (const frame of decoded.frames) {
-    if (frame.t > t) break;
-    Object.assign(state, frame.v);
-  }
-  return { state, segmentsRead: 1 };
+  return { state: stateInSegment(decodeSegment(row.payload), t), segmentsRead: 1 };
 }
 
 /** Every stored segment (where it starts, its payload), in order, reading `batch` rows at a time. */

@@ -1,4 +1,5 @@
 import type { Element } from "../elements/kinds";
+import { workSlices, type TurnOptions } from "../turns";
 import type { BreakerShows, ElementTimeline, ExpectedTimelines, LampShows } from "../expect/types";
 import { AngleTrackJudge } from "./angle";
 import { DiscreteTrackJudge, zeroError, type DiscreteRules } from "./discrete";
@@ -274,20 +275,15 @@ export async function judgeOfflineInTurns(
   seen: readonly { elementId: string; sample: SeenSample }[],
   gaps: { elementIds: string[]; gap: LinkGap }[],
   tolerances: (elementId: string) => Tolerances,
-  options: { sliceMs?: number; turn?: () => Promise<void> } = {},
+  options: TurnOptions = {},
 ): Promise<RunJudgement> {
-  const sliceMs = options.sliceMs ?? 8;
-  const turn = options.turn ?? (() => new Promise<void>((resolve) => setTimeout(resolve, 0)));
+  const slices = workSlices(options);
   const judge = new RunJudge(timelines, tolerances);
   for (const g of gaps) judge.addGap(g.elementIds, g.gap);
-  let sliceStart = performance.now();
   for (let i = 0; i < seen.length; i++) {
     judge.addSeen(seen[i].elementId, seen[i].sample);
     // The clock is read every 1,024 reports (a few tens of microseconds of work).
-    if ((i & 1023) === 1023 && performance.now() - sliceStart >= sliceMs) {
-      await turn();
-      sliceStart = performance.now();
-    }
+    if ((i & 1023) === 1023 && slices.due()) await slices.take();
   }
   return judge.finish();
 }

@@ -17,6 +17,7 @@ import type { Panel } from "../panel/schema";
 import { runPointerSamples } from "./pointer-loop";
 import { SlewFollower } from "./slew";
 import { RecordingColumns } from "./recording-columns";
+import { workSlices, type TurnOptions } from "../turns";
 import { ChannelColumns, ElementFeed, type ChannelColumn, FRAMES_PER_CHUNK, type BulkListener, type Listener } from "./columns";
 import { actorCell, MemoTables, type CellEvent, type MachineCell } from "./cells";
 import { countKey, DiscreteTrackBuilder, flagKey, LinearTrackBuilder, textKey } from "./tracks";
@@ -158,19 +159,14 @@ export function expectTimelines(
 export async function expectTimelinesInTurns(
   panel: Pick<Panel, "id" | "elements">,
   recording: RecordingColumns,
-  options: ExpectOptions & { sliceMs?: number; turn?: () => Promise<void> } = {},
+  options: ExpectOptions & TurnOptions = {},
 ): Promise<ExpectedTimelines> {
-  const sliceMs = options.sliceMs ?? 8;
-  const turn = options.turn ?? (() => new Promise<void>((resolve) => setTimeout(resolve, 0)));
+  const slices = workSlices(options);
   const steps = playColumns(panel, recording, options);
-  let sliceStart = performance.now();
   for (;;) {
     const step = steps.next();
     if (step.done) return step.value;
-    if (performance.now() - sliceStart >= sliceMs) {
-      await turn();
-      sliceStart = performance.now();
-    }
+    if (slices.due()) await slices.take();
   }
 }
 

@@ -218,9 +218,16 @@ export function findSegmentIndex(segments: readonly Pick<RecordingSegment, "star
 export function stateAt(segments: readonly RecordingSegment[], t: number): ChannelState {
   const index = findSegmentIndex(segments, t);
   if (index < 0) return emptyState();
-  const decoded = decodeSegment(segments[index].payload);
-  const state = decoded.keyframe;
-  for (const frame of decoded.frames) {
+  return stateInSegment(decodeSegment(segments[index].payload), t);
+}
+
+/**
+ * Every channel's value at `t` from the decoded segment holding it: its keyframe with its frames
+ * up to `t` folded in (a new object; the segment is left as it was).
+ */
+export function stateInSegment(segment: DecodedSegment, t: number): ChannelState {
+  const state: ChannelState = Object.assign(emptyState(), segment.keyframe);
+  for (const frame of segment.frames) {
     if (frame.t > t) break;
     Object.assign(state, frame.v);
   }

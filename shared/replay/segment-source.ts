@@ -1,5 +1,5 @@
 import { emptyState, type ChannelState, type Frame } from "../recording/frames";
-import { decodeSegment, findSegmentIndex, type DecodedSegment } from "../recording/segments";
+import { decodeSegment, findSegmentIndex, stateInSegment, type DecodedSegment } from "../recording/segments";
 import { firstAfter, type FrameSource } from "./frame-source";
 
 /** A stored segment as the source needs it: where it starts and its payload (shared/recording/segments.ts). */
@@ -61,14 +61,7 @@ export class SegmentFrameSource implements FrameSource {
 
   stateAt(t: number): ChannelState {
     const index = findSegmentIndex(this.segments, t);
-    if (index < 0) return emptyState();
-    const segment = this.segment(index);
-    const state: ChannelState = Object.assign(emptyState(), segment.keyframe);
-    for (const frame of segment.frames) {
-      if (frame.t > t) break;
-      Object.assign(state, frame.v);
-    }
-    return state;
+    return index < 0 ? emptyState() : stateInSegment(this.segment(index), t);
   }
 
   nextFrameAfter(t: number): Frame | null {
