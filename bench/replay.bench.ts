@@ -71,7 +71,7 @@ function seenReports(): Buffer[] {
  * link, advanced at every frame it sends: the comparator runs in the loop, as in a run.
  */
 async function withClients<T>(
-  work: (send: (bytes: Buffer) => void, received: () => number, judges: { advance(t: number): void; reports(): number } | null) => Promise<T>,
+  work: (send: (bytes: Buffer) => void, received: () => number, judges: { advance(t: number): void; reports(): number; announced(): number } | null) => Promise<T>,
   judging = false,
   answering = judging,
 ): Promise<T> {
@@ -83,10 +83,13 @@ async function withClients<T>(
   let benchNow = 0;
   const tol: Tolerances = { degrees: 2, level: 24, period: 0.2, lagBudgetMs: 300 };
   const linkJudges: RunJudge[] = [];
+  const announcedOf = new Map<RunJudge, number>();
+  let announced = 0;
   if (judging) {
     server.on("connection", (socket) => {
       const judge = new RunJudge(panelTimelines(), () => tol);
       linkJudges.push(judge);
+      announcedOf.set(judge, 0);
       const decoder = new LinkStreamDecoder({ acceptFrom: "device" });
       socket.on("message", (data) => {
         const b = data as Buffer;
@@ -119,11 +122,19 @@ async function withClients<T>(
   };
   const judges = judging
     ? {
+        // What a run does after each frame (RunSession.afterTick): advance every link's judge,
+        // then read what settled and what is failing for the watchers.
         advance(t: number) {
           benchNow = t;
-          for (const j of linkJudges) j.advance(t);
+          for (const j of linkJudges) {
+            j.advance(t);
+            announced += j.liveMismatches().length - announcedOf.get(j)!;
+            announcedOf.set(j, j.liveMismatches().length);
+            announced += j.newlyFailing(t).length;
+          }
         },
         reports: () => reports,
+        announced: () => announced,
       }
     : null;
   try {
@@ -195,6 +206,7 @@ async function replayAt(speed: number, frames: Frame[], index: Map<string, numbe
       delivered: received() / Math.max(1, expected),
       frames: lateness.length,
       judged: judges?.reports() ?? 0,
+      announced: judges?.announced() ?? 0,
     };
   }, !bare);
 }
@@ -263,7 +275,7 @@ export async function run(): Promise<BenchReport> {
         note: floor ? `baseline: the same frames' bytes encoded beforehand, sent on the same scheduler to the same 20 sockets with no panel answering and nothing judged (p50 ${floor.p50.toFixed(2)} ms, max ${floor.max.toFixed(2)} ms, ${floor.late} frames over 2 ms late)` : undefined,
       },
       { metric: `lateness max at ${speed}x`, value: r.max, unit: "ms", note: `${r.late} frames over 2 ms late, ${r.lateWithCollection} of them with a garbage collection in or just before their send; ${r.collections} collections, ${r.collectionMs.toFixed(0)} ms in all` },
-      { metric: `CPU used at ${speed}x`, value: r.cpuShare * 100, unit: "% of one core", note: `${r.frames} sends, ${(r.delivered * 100).toFixed(1)}% delivered, ${r.judged.toLocaleString("en")} seen reports judged live` },
+      { metric: `CPU used at ${speed}x`, value: r.cpuShare * 100, unit: "% of one core", note: `${r.frames} sends, ${(r.delivered * 100).toFixed(1)}% delivered, ${r.judged.toLocaleString("en")} seen reports judged live, ${r.announced} mismatches or failing elements announced` },
     );
   }
   const frames = makeFrames(20_000);

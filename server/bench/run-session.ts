@@ -610,7 +610,8 @@ export class RunSession {
       for (let i = p.liveMismatches; i < live.length; i++) this.announceMismatch(p, live[i]);
       p.liveMismatches = live.length;
       // A mismatch still open (a lamp stuck dark to the end) marks its element at once.
-      for (const elementId of p.judge.failingNow(p.advancedTo)) this.announceFailing(p, elementId);
+      const failing = p.judge.newlyFailing(p.advancedTo);
+      for (let i = 0; i < failing.length; i++) this.announceFailing(p, failing[i]);
     }
     const wall = performance.now();
     if (wall - this.lastPlayerBroadcast > 250) this.broadcastPlayer();

@@ -186,7 +186,8 @@ export class AngleTrackJudge {
     if (this.nextLeavingIndex < times.length && times[this.nextLeavingIndex] + this.lagBudgetMs < b) b = times[this.nextLeavingIndex] + this.lagBudgetMs;
     const nextSeen = this.seenIndex + 1 < this.seenT.length ? this.seenT[this.seenIndex + 1] : Infinity;
     if (nextSeen < b) b = nextSeen;
-    for (const g of this.gaps) {
+    for (let i = 0; i < this.gaps.length; i++) {
+      const g = this.gaps[i];
       if (g.fromMs > a && g.fromMs < b) b = g.fromMs;
       if (g.toMs > a && g.toMs < b) b = g.toMs;
     }

@@ -73,7 +73,8 @@ export class DiscreteTrackJudge<V> {
       const nextSeen = this.seen[this.seenIndex + 1]?.t;
       if (nextExp !== undefined && nextExp < b) b = nextExp;
       if (nextSeen !== undefined && nextSeen < b) b = nextSeen;
-      for (const g of this.gaps) {
+      for (let i = 0; i < this.gaps.length; i++) {
+        const g = this.gaps[i];
         if (g.fromMs > a && g.fromMs < b) b = g.fromMs;
         if (g.toMs > a && g.toMs < b) b = g.toMs;
       }

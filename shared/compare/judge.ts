@@ -89,7 +89,8 @@ export class ElementJudge {
     if (tr.lamp) {
       this.lamp = new DiscreteTrackJudge(id, "lamp", tr.lamp, lampRules(tol), tol.lagBudgetMs, startMs);
       const periods = [...new Set(tr.lamp.flatMap((c) => (c.shows.state === "flashing" ? [c.shows.periodMs] : [])))];
-      this.flashing = new FlashingDetector(periods, tol.period);
+      const lamp = this.lamp;
+      this.flashing = new FlashingDetector(periods, tol.period, (t, shows) => lamp.addSeen(t, shows));
     }
     if (tr.text) this.text = new DiscreteTrackJudge(id, "text", tr.text, textRules, tol.lagBudgetMs, startMs);
     if (tr.breaker) this.breaker = new DiscreteTrackJudge(id, "breaker", tr.breaker, breakerRules, tol.lagBudgetMs, startMs);
@@ -116,7 +117,7 @@ export class ElementJudge {
 
   advance(t: number) {
     if (this.lamp && this.flashing) {
-      for (const s of this.flashing.release(t)) this.lamp.addSeen(s.t, s.lamp);
+      this.flashing.release(t);
       this.lamp.advance(this.flashing.settledUntil(t));
     }
     // Called for every element of every link at every frame of a live run: no lists made here.
@@ -130,7 +131,8 @@ export class ElementJudge {
 
   /** Failing already at `t` (the last advance) although no mismatch has closed yet: for live display. */
   failingAt(t: number): boolean {
-    return [this.lamp, this.text, this.breaker, this.position, this.angle].some((j) => j?.failingAt(t) ?? false);
+    for (let i = 0; i < this.tracks.length; i++) if (this.tracks[i].failingAt(t)) return true;
+    return false;
   }
 
   /** Mismatches settled so far (for live display), without removing them. */
@@ -139,7 +141,7 @@ export class ElementJudge {
   }
 
   finish(endMs: number, placeholder: boolean): ElementResult {
-    if (this.lamp && this.flashing) for (const s of this.flashing.release(Infinity)) this.lamp.addSeen(s.t, s.lamp);
+    this.flashing?.release(Infinity);
     for (const j of [this.lamp, this.text, this.breaker, this.position, this.angle]) if (j) this.mismatches.push(...j.finish(endMs));
     this.mismatches.sort((a, b) => a.startMs - b.startMs || a.track.localeCompare(b.track));
     const lags = [this.lamp, this.text, this.breaker, this.position].flatMap((j) => j?.lags ?? []);
@@ -184,6 +186,18 @@ function statusOf(r: { placeholder: boolean; judged: boolean; mismatches: number
   return "pass";
 }
 
+interface JudgedElement {
+  id: string;
+  judge: ElementJudge;
+  placeholder: boolean;
+  /** How many of the judge's settled mismatches are already in the run's live list. */
+  settledSeen: number;
+  /** Named by `newlyFailing` already. */
+  namedFailing: boolean;
+}
+
+const NONE_FAILING: readonly string[] = Object.freeze([]);
+
 export interface RunJudgement {
   elements: ElementResult[];
   mismatches: Mismatch[];
@@ -196,7 +210,11 @@ export interface RunJudgement {
  * counted and ignored (the bench shows the count), never a crash.
  */
 export class RunJudge {
-  private readonly judges = new Map<string, { judge: ElementJudge; placeholder: boolean }>();
+  private readonly judges = new Map<string, JudgedElement>();
+  /** The same judges as a list: a live run advances all of them at every frame, and a list walks without an iterator. */
+  private readonly list: JudgedElement[] = [];
+  /** Mismatches settled so far, in the order they settled (append-only: a live reader keeps its place by index). */
+  private readonly live: Mismatch[] = [];
   unknownElementReports = 0;
 
   constructor(
@@ -204,7 +222,9 @@ export class RunJudge {
     tolerances: (elementId: string) => Tolerances,
   ) {
     for (const tl of timelines.elements) {
-      this.judges.set(tl.id, { judge: new ElementJudge(tl, tolerances(tl.id), timelines.startMs), placeholder: tl.placeholder });
+      const entry = { id: tl.id, judge: new ElementJudge(tl, tolerances(tl.id), timelines.startMs), placeholder: tl.placeholder, settledSeen: 0, namedFailing: false };
+      this.judges.set(tl.id, entry);
+      this.list.push(entry);
     }
   }
 
@@ -222,19 +242,40 @@ export class RunJudge {
     for (const id of elementIds) this.judges.get(id)?.judge.addGap(gap);
   }
 
+  /** Called for every frame of a live run: walks a list and makes nothing unless a mismatch settles. */
   advance(t: number) {
-    for (const entry of this.judges.values()) entry.judge.advance(t);
+    const list = this.list;
+    for (let i = 0; i < list.length; i++) {
+      const entry = list[i];
+      entry.judge.advance(t);
+      const settled = entry.judge.settled;
+      while (entry.settledSeen < settled.length) this.live.push(settled[entry.settledSeen++]);
+    }
   }
 
-  /** Elements whose current mismatch has outlasted the lag budget at `t` but not closed yet. */
-  failingNow(t: number): string[] {
-    const out: string[] = [];
-    for (const [id, { judge, placeholder }] of this.judges) if (!placeholder && judge.failingAt(t)) out.push(id);
-    return out;
+  /**
+   * Elements whose current mismatch has outlasted the lag budget at `t`, though it has not closed
+   * yet, and that no earlier call named: a live view marks each once. Usually none: then one shared
+   * empty list.
+   */
+  newlyFailing(t: number): readonly string[] {
+    let out: string[] | null = null;
+    const list = this.list;
+    for (let i = 0; i < list.length; i++) {
+      const entry = list[i];
+      if (entry.namedFailing || entry.placeholder || !entry.judge.failingAt(t)) continue;
+      entry.namedFailing = true;
+      (out ??= []).push(entry.id);
+    }
+    return out ?? NONE_FAILING;
   }
 
-  liveMismatches(): Mismatch[] {
-    return [...this.judges.values()].flatMap(({ judge }) => judge.settled);
+  /**
+   * Every mismatch settled so far, in the order they settled. The list only grows, so a live
+   * reader announces `liveMismatches().slice(itsCount)` and never misses or repeats one.
+   */
+  liveMismatches(): readonly Mismatch[] {
+    return this.live;
   }
 
   finish(endMs = this.timelines.endMs): RunJudgement {

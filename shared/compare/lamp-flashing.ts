@@ -1,8 +1,6 @@
 import type { LampShows } from "../expect/types";
 import { forgetFront, shouldForget } from "./seen-memory";
 
-const NOTHING: readonly { t: number; lamp: LampShows }[] = Object.freeze([]);
-
 /**
  * A panel that cannot say "flashing" reports a flashing lamp as on, off, on, off. This turns
  * such runs back into one flashing state, so flashing is judged as a state with a period
@@ -19,6 +17,8 @@ export class FlashingDetector {
   constructor(
     private readonly periods: readonly number[],
     private readonly tolerance: number,
+    /** Where released samples go, in time order (the lamp's judge). */
+    private readonly deliver: (t: number, lamp: LampShows) => void,
   ) {
     this.maxHalf = periods.length ? (Math.max(...periods) * (1 + tolerance)) / 2 : 0;
   }
@@ -41,10 +41,15 @@ export class FlashingDetector {
     return null;
   }
 
-  /** Samples whose meaning is settled once time has reached `now`, translated. Everything when `now` is Infinity. */
-  release(now: number): readonly { t: number; lamp: LampShows }[] {
-    if (this.next >= this.raw.length) return NOTHING;
-    const out: { t: number; lamp: LampShows }[] = [];
+  /**
+   * Delivers the samples whose meaning is settled once time has reached `now`, translated;
+   * everything when `now` is Infinity. Delivered straight to the judge, not returned as a list:
+   * a live run releases at every frame for every lamp, and a list per call (even one list
+   * emptied and refilled, whose storage is given back when emptied) was most of what live
+   * judging left for the garbage collector.
+   */
+  release(now: number): void {
+    if (this.next >= this.raw.length) return;
     while (this.next < this.raw.length) {
       const i = this.next;
       const s = this.raw[i];
@@ -53,16 +58,16 @@ export class FlashingDetector {
       if (!hasNext && now !== Infinity && now <= s.t + this.maxHalf) break;
       const forward = this.periods.length ? this.flashPeriod(i) : null;
       if (forward !== null) {
-        if (!this.inRun) out.push({ t: s.t, lamp: { state: "flashing", periodMs: forward, level: s.lamp.state === "on" ? s.lamp.level : 255 } });
+        if (!this.inRun) this.deliver(s.t, { state: "flashing", periodMs: forward, level: s.lamp.state === "on" ? s.lamp.level : 255 });
         this.inRun = { periodMs: forward, lastT: s.t, lastLamp: s.lamp };
       } else if (this.inRun) {
         // The run's last toggle: it still flashes for half a period, then shows what it holds.
         const endT = s.t + this.inRun.periodMs / 2;
         this.inRun = null;
         const nextT = this.raw[i + 1]?.t;
-        if (nextT === undefined || nextT > endT) out.push({ t: endT, lamp: s.lamp });
+        if (nextT === undefined || nextT > endT) this.deliver(endT, s.lamp);
       } else {
-        out.push(s);
+        this.deliver(s.t, s.lamp);
       }
       this.next++;
     }
@@ -71,7 +76,6 @@ export class FlashingDetector {
       forgetFront(this.raw, this.next);
       this.next = 0;
     }
-    return out;
   }
 
   /** The earliest instant whose seen value may still change: the judge must not settle past it. */

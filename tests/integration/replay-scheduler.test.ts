@@ -38,4 +38,33 @@ describe("replay scheduler on real timers", () => {
     for (const s of seen.filter((x) => x.t <= 100)) expect(s.wall).toBeGreaterThanOrEqual(s.t - 1);
     expect(player.state).toBe("finished");
   });
+
+  it("gives the event loop a turn between every two frames, even when frames fall due faster than a timer can fire", async () => {
+    // 200 frames 1 ms apart at 16x: one every 62.5 microseconds of wall time, all waited out on the spot.
+    const frames: Frame[] = Array.from({ length: 200 }, (_, i) => ({ t: i, v: { n: i } }));
+    let turns = 0;
+    let framesSent = 0;
+    const turnsAtFrame: number[] = [];
+    const player = new Player(new ArrayFrameSource(frames), performanceClock, {
+      frame: () => {
+        framesSent++;
+        turnsAtFrame.push(turns);
+      },
+      keyframe: () => {},
+    });
+    const scheduler = new ReplayScheduler(player);
+    const other = () => {
+      turns++;
+      if (player.state === "playing") setImmediate(other);
+    };
+    player.setSpeed(16);
+    player.play();
+    scheduler.kick();
+    setImmediate(other);
+    while (player.state === "playing") await new Promise((r) => setTimeout(r, 5));
+    scheduler.stop();
+    expect(framesSent).toBeGreaterThan(1);
+    // Between any two frames sent, other work ran at least once.
+    for (let i = 1; i < turnsAtFrame.length; i++) expect(turnsAtFrame[i]).toBeGreaterThan(turnsAtFrame[i - 1]);
+  });
 });

@@ -304,15 +304,45 @@ describe("lag percentiles", () => {
   });
 });
 
+describe("live mismatches", () => {
+  it("come in the order they settled, so a reader keeping its place by count sees each exactly once", () => {
+    // Two lamps that each go wrong twice, interleaved: first, second, first, second.
+    const expectedOn = (id: string) => lampTimeline([{ t: 0, shows: ON }], id);
+    const judge = new RunJudge({ panelId: "p", startMs: 0, endMs: 10_000, elements: [expectedOn("first"), expectedOn("second")] }, () => TOL);
+    const wrongFor = (id: string, from: number) => {
+      judge.addSeen(id, { t: from, shows: { track: "lamp", lamp: OFF } });
+      judge.addSeen(id, { t: from + 500, shows: { track: "lamp", lamp: ON } });
+    };
+    wrongFor("first", 1000);
+    wrongFor("second", 2000);
+    wrongFor("first", 3000);
+    wrongFor("second", 4000);
+    const announced: string[] = [];
+    let count = 0;
+    for (let t = 0; t <= 6000; t += 250) {
+      judge.advance(t);
+      const live = judge.liveMismatches();
+      for (let i = count; i < live.length; i++) announced.push(`${live[i].elementId}@${live[i].startMs}`);
+      count = live.length;
+    }
+    expect(announced).toEqual(["first@1000", "second@2000", "first@3000", "second@4000"]);
+    // And the final judgement holds the same four.
+    expect(judge.finish(10_000).mismatches.map((m) => `${m.elementId}@${m.startMs}`)).toEqual(announced);
+  });
+});
+
 describe("live marking of a mismatch that has not ended", () => {
   it("a lamp stuck dark to the end fails live once it outlasts the lag budget, before any mismatch closes", () => {
     const stuckTimeline: ExpectedTimelines = { panelId: "p", startMs: 0, endMs: 5000, elements: [lampTimeline([{ t: 0, shows: OFF }, { t: 1000, shows: ON }])] };
     const judge = new RunJudge(stuckTimeline, () => TOL);
     judge.addSeen("fire-lamp", { t: 10, shows: { track: "lamp", lamp: OFF } });
     judge.advance(1000 + TOL.lagBudgetMs); // exactly the budget: not yet
-    expect(judge.failingNow(1000 + TOL.lagBudgetMs)).toEqual([]);
+    expect(judge.newlyFailing(1000 + TOL.lagBudgetMs)).toEqual([]);
     judge.advance(1400);
-    expect(judge.failingNow(1400)).toEqual(["fire-lamp"]);
+    expect(judge.newlyFailing(1400)).toEqual(["fire-lamp"]);
+    // Named once: still failing, but a live view has marked it already.
+    judge.advance(1500);
+    expect(judge.newlyFailing(1500)).toEqual([]);
     expect(judge.liveMismatches()).toEqual([]);
     // The final judgement agrees: one wrong-value mismatch from 1000 to the end.
     const done = judge.finish(5000);
@@ -326,7 +356,7 @@ describe("live marking of a mismatch that has not ended", () => {
     judge.addSeen("needle", { t: 1100, shows: { track: "angle", angle: 90 } });
     for (let t = 0; t <= 3000; t += 50) {
       judge.advance(t);
-      expect(judge.failingNow(t)).toEqual([]);
+      expect(judge.newlyFailing(t)).toEqual([]);
     }
   });
 });
