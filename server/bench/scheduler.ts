@@ -8,6 +8,9 @@ const TIMER_EARLY_MS = 1;
 /** Nobody ever notifies it: `Atomics.wait` on it is a sleep that blocks only this thread. */
 const SLEEP_CELL = new Int32Array(new SharedArrayBuffer(4));
 
+/** Schedulers with a frame to wake for, across the process (one per playing run). */
+const waiting = new Set<ReplayScheduler>();
+
 /**
  * Wakes a player when its next frame falls due, not on a fixed interval. A timer covers the
  * bulk of the wait and fires a millisecond early, since Node's timers only promise "no earlier
@@ -16,7 +19,9 @@ const SLEEP_CELL = new Int32Array(new SharedArrayBuffer(4));
  * turning the loop until the frame is due made an immediate per turn (thousands a second, for
  * the garbage collector to sweep) and any socket work that ran in a turn made the frame late
  * (the replay bench, DEVELOPERS.md "Speed"). Between two frames the loop always gets a turn, so
- * other work waits at most that last stretch. Call `kick()` after any control (play, seek,
+ * other work waits at most that last stretch. Only while this is the one run playing in the
+ * process: a sleep would hold every other run's frames too, so with several the last stretch is
+ * turned on the event loop and they interleave. Call `kick()` after any control (play, seek,
  * speed) so the next wake-up is recomputed.
  */
 export class ReplayScheduler {
@@ -34,6 +39,7 @@ export class ReplayScheduler {
     this.clear();
     const delay = this.player.wallDelayToNextFrame();
     if (delay === Infinity) return; // paused, finished or failed: a control will kick again
+    waiting.add(this);
     // Even a frame due now waits for one turn of the event loop, so sockets and requests get
     // theirs between frames (at 16x, frames fall due about every millisecond).
     if (delay >= TIMER_FROM_MS) this.timer = setTimeout(this.wake, delay - TIMER_EARLY_MS);
@@ -44,15 +50,25 @@ export class ReplayScheduler {
     this.timer = null;
     this.immediate = null;
     const left = this.player.wallDelayToNextFrame();
-    if (left === Infinity) return;
+    if (left === Infinity) {
+      waiting.delete(this);
+      return;
+    }
     if (left >= TIMER_FROM_MS) {
       // Woken well early (a timer that fired at once, or a speed change): sleep again.
       this.timer = setTimeout(this.wake, left - TIMER_EARLY_MS);
       return;
     }
-    // Under 1.5 ms left: sleep it out on the spot (a condition variable's timed wait, exact to a
-    // tenth of a millisecond or two here, using no CPU and making no objects).
-    if (left > 0) Atomics.wait(SLEEP_CELL, 0, 0, left);
+    if (left > 0) {
+      if (waiting.size > 1) {
+        // Another run is playing: a sleep would hold its frames too, so turn the loop instead.
+        this.immediate = setImmediate(this.wake);
+        return;
+      }
+      // Under 1.5 ms left: sleep it out on the spot (a condition variable's timed wait, exact to
+      // a tenth of a millisecond or two here, using no CPU and making no objects).
+      Atomics.wait(SLEEP_CELL, 0, 0, left);
+    }
     this.player.tick();
     this.onTick();
     this.kick();
@@ -63,6 +79,7 @@ export class ReplayScheduler {
     if (this.immediate) clearImmediate(this.immediate);
     this.timer = null;
     this.immediate = null;
+    waiting.delete(this);
   }
 
   stop() {

@@ -67,4 +67,33 @@ describe("replay scheduler on real timers", () => {
     // Between any two frames sent, other work ran at least once.
     for (let i = 1; i < turnsAtFrame.length; i++) expect(turnsAtFrame[i]).toBeGreaterThan(turnsAtFrame[i - 1]);
   });
+
+  it("plays two runs at once, interleaved, each in order and never early", async () => {
+    const frames: Frame[] = Array.from({ length: 60 }, (_, i) => ({ t: i * 3, v: { n: i } }));
+    const sent: { run: string; t: number; wall: number }[] = [];
+    const start = performance.now();
+    const runs = ["first", "second"].map((run) => {
+      const player = new Player(new ArrayFrameSource(frames), performanceClock, {
+        frame: (f) => sent.push({ run, t: f.t, wall: performance.now() - start }),
+        keyframe: () => {},
+      });
+      return { player, scheduler: new ReplayScheduler(player) };
+    });
+    for (const r of runs) {
+      r.player.play();
+      r.scheduler.kick();
+    }
+    while (runs.some((r) => r.player.state === "playing")) await new Promise((r) => setTimeout(r, 5));
+    runs.forEach((r) => r.scheduler.stop());
+    for (const run of ["first", "second"]) {
+      const own = sent.filter((s) => s.run === run).map((s) => s.t);
+      expect(own).toEqual([...own].sort((a, b) => a - b));
+      expect(own.at(-1)).toBe(177);
+    }
+    // Neither waited for the other to finish.
+    const lastOfFirst = sent.findLastIndex((s) => s.run === "first");
+    const firstOfSecond = sent.findIndex((s) => s.run === "second");
+    expect(firstOfSecond).toBeLessThan(lastOfFirst);
+    for (const s of sent) expect(s.wall).toBeGreaterThanOrEqual(s.t - 1);
+  });
 });
