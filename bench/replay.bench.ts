@@ -3,7 +3,6 @@ import { PerformanceObserver } from "node:perf_hooks";
 import { quantileSorted } from "simple-statistics";
 import { WebSocket, WebSocketServer } from "ws";
 import { encodeLinkFrame } from "../shared/link/codec";
-import type { ChannelValue } from "../shared/link/messages";
 import { packValueUpdates } from "../shared/link/pack";
 import type { Frame } from "../shared/recording/frames";
 import { ArrayFrameSource } from "../shared/replay/frame-source";
@@ -13,7 +12,10 @@ import { ReplayScheduler } from "../server/bench/scheduler";
 import { RunJudge } from "../shared/compare/judge";
 import type { Tolerances } from "../shared/compare/types";
 import type { ExpectedTimelines } from "../shared/expect/types";
-import { LinkStreamDecoder } from "../shared/link/stream";
+import { DirectLink } from "../server/bench/links";
+import { seenFromLink } from "../shared/compare/from-link";
+import { PanelValueMap } from "../shared/link/panel-values";
+import { panel } from "../shared/panel/schema";
 import type { BenchReport, BenchRow } from "./harness";
 
 const CHANNELS = 500;
@@ -37,15 +39,26 @@ function makeFrames(durationMs: number): Frame[] {
   return frames;
 }
 
-function toWire(frame: Frame, index: Map<string, number>, sequence: number): Buffer[] {
-  const values: ChannelValue[] = [];
-  for (const [name, value] of Object.entries(frame.v)) values.push({ channel: index.get(name)!, kind: "float", value: Math.fround(value as number) });
-  return packValueUpdates(values, { keyframe: false }).map((message) => Buffer.from(encodeLinkFrame({ address: 0, sequence: sequence & 0xff, message })));
+/** The bytes a link sends for a frame (the same mapping, packing and encoding as DirectLink.update), for the baselines. */
+function toWire(frame: Frame, map: PanelValueMap, sequence: number): Buffer[] {
+  return packValueUpdates(map.valuesOf(frame.v), { keyframe: false }).map((message) => Buffer.from(encodeLinkFrame({ address: 0, sequence: sequence & 0xff, message })));
 }
 
 /** Elements per emulated panel, and how many of them a panel reports after each update. */
 const PANEL_ELEMENTS = 40;
 const REPORTED_PER_UPDATE = 8;
+
+/** The panel on every link: 40 lamps (what the judges see), reading all 500 channels (the link's load). */
+function benchPanel() {
+  const def = panel.parse({
+    id: "bench",
+    name: "Bench",
+    airframe: "bench",
+    elements: Array.from({ length: PANEL_ELEMENTS }, (_, i) => ({ kind: "lamp", id: `lamp-${i}`, label: `Lamp ${i}`, drive: { mode: "condition", on: { channel: `ch.${i}` } } })),
+  });
+  const channels = Array.from({ length: CHANNELS }, (_, c) => `ch.${c}`);
+  return { elements: def.elements, map: new PanelValueMap(channels, []) };
+}
 
 /** What every link's panel should show: 40 lamps, lit from the start (the judges' work, not the behaviours'). */
 function panelTimelines(): ExpectedTimelines {
@@ -67,81 +80,108 @@ function seenReports(): Buffer[] {
   return out;
 }
 
+interface BenchLinks {
+  /** A frame as a run sends it: every link maps it to its panel's values, packs, encodes and sends them (DirectLink.update). */
+  sendFrame(frame: Frame): void;
+  /** Bytes encoded beforehand, to every socket: the floor and the bare broadcast. */
+  sendBytes(bytes: Buffer): void;
+  /** Messages the clients have received, and messages sent to them. */
+  received(): number;
+  sent(): number;
+  /** After each frame, what a run does (RunSession.afterTick): advance every link's judge, read what settled and what is failing. */
+  afterFrame(t: number): void;
+  reports(): number;
+  announced(): number;
+}
+
 /**
- * 20 WebSocket clients on a local server. With `judging`, each client is a panel that answers
- * every update with a seen report, and the bench decodes each answer and feeds a live judge per
- * link, advanced at every frame it sends: the comparator runs in the loop, as in a run.
+ * 20 WebSocket clients on a local server, each the far end of one of the product's links
+ * (`DirectLink`, one panel each, as a run holds them). With `answering`, each client is a panel
+ * that answers every update with a seen report; the link decodes it, `seenFromLink` turns it into
+ * samples, and a live judge per link takes them and is advanced after every frame: the comparator
+ * runs in the loop, as in a run.
  */
-async function withClients<T>(
-  work: (send: (bytes: Buffer) => void, received: () => number, judges: { advance(t: number): void; reports(): number; announced(): number } | null) => Promise<T>,
-  judging = false,
-  answering = judging,
-): Promise<T> {
+async function withClients<T>(work: (links: BenchLinks) => Promise<T>, answering: boolean): Promise<T> {
   const server = new WebSocketServer({ port: 0, host: "127.0.0.1" });
   await new Promise((r) => server.once("listening", r));
   const port = (server.address() as AddressInfo).port;
-  let count = 0;
-  let reports = 0;
-  let benchNow = 0;
+  const { elements, map } = benchPanel();
   const tol: Tolerances = { degrees: 2, level: 24, period: 0.2, lagBudgetMs: 300 };
-  const linkJudges: RunJudge[] = [];
-  const announcedOf = new Map<RunJudge, number>();
+  let received = 0;
+  let sent = 0;
+  let reports = 0;
   let announced = 0;
-  if (judging) {
-    server.on("connection", (socket) => {
-      const judge = new RunJudge(panelTimelines(), () => tol);
-      linkJudges.push(judge);
-      announcedOf.set(judge, 0);
-      const decoder = new LinkStreamDecoder({ acceptFrom: "device" });
-      socket.on("message", (data) => {
-        const b = data as Buffer;
-        for (const event of decoder.push(new Uint8Array(b.buffer, b.byteOffset, b.length))) {
-          if (!event.ok || event.frame.message.type !== "seen_report") continue;
-          for (const entry of event.frame.message.seen) {
-            if (entry.kind !== "lamp_state") continue;
-            judge.addSeen(`lamp-${entry.element}`, { t: benchNow, shows: { track: "lamp", lamp: entry.state === "off" ? { state: "off" } : { state: "on", level: 255 } } });
-            reports++;
-          }
+  let benchNow = 0;
+  const links: { link: DirectLink; judge: RunJudge; announced: number }[] = [];
+  server.on("connection", (socket) => {
+    const judge = new RunJudge(panelTimelines(), () => tol);
+    const link = new DirectLink("network", `bench-${links.length}`, {
+      frame(frame) {
+        if (frame.message.type !== "seen_report") return;
+        for (const entry of frame.message.seen) {
+          const reading = seenFromLink(elements, entry, benchNow);
+          if (!reading.ok) continue;
+          judge.addSeen(reading.elementId, reading.sample);
+          reports++;
         }
-      });
+      },
+      fault() {},
+      up() {},
+      down() {},
     });
-  }
+    socket.on("message", (data) => {
+      const b = data as Buffer;
+      link.receive(new Uint8Array(b.buffer, b.byteOffset, b.length));
+    });
+    link.attach((bytes) => {
+      socket.send(bytes, { binary: true });
+      sent++;
+    }, { identify: false });
+    links.push({ link, judge, announced: 0 });
+  });
   const answers = seenReports();
   const clients = await Promise.all(
     Array.from({ length: LINKS }, () => new Promise<WebSocket>((resolve) => {
       const ws = new WebSocket(`ws://127.0.0.1:${port}`);
       let next = 0;
       ws.on("message", () => {
-        count++;
+        received++;
         if (answering) ws.send(answers[next++ % answers.length]);
       });
       ws.once("open", () => resolve(ws));
     })),
   );
-  while (server.clients.size < LINKS) await new Promise((r) => setTimeout(r, 5));
-  const send = (bytes: Buffer) => {
-    for (const c of server.clients) c.send(bytes);
-  };
-  const judges = judging
-    ? {
-        // What a run does after each frame (RunSession.afterTick): advance every link's judge,
-        // then read what settled and what is failing for the watchers.
-        advance(t: number) {
-          benchNow = t;
-          for (const j of linkJudges) {
-            j.advance(t);
-            announced += j.liveMismatches().length - announcedOf.get(j)!;
-            announcedOf.set(j, j.liveMismatches().length);
-            announced += j.newlyFailing(t).length;
-          }
-        },
-        reports: () => reports,
-        announced: () => announced,
+  while (links.length < LINKS) await new Promise((r) => setTimeout(r, 5));
+  const benchLinks: BenchLinks = {
+    sendFrame(frame) {
+      for (let i = 0; i < links.length; i++) {
+        const values = map.valuesOf(frame.v);
+        if (values.length) links[i].link.update(values, false);
       }
-    : null;
+    },
+    sendBytes(bytes) {
+      for (const c of server.clients) c.send(bytes);
+      sent += server.clients.size;
+    },
+    received: () => received,
+    sent: () => sent,
+    afterFrame(t) {
+      benchNow = t;
+      for (const l of links) {
+        l.judge.advance(t);
+        const live = l.judge.liveMismatches();
+        announced += live.length - l.announced;
+        l.announced = live.length;
+        announced += l.judge.newlyFailing(t).length;
+      }
+    },
+    reports: () => reports,
+    announced: () => announced,
+  };
   try {
-    return await work(send, () => count, judges);
+    return await work(benchLinks);
   } finally {
+    for (const l of links) await l.link.close();
     clients.forEach((c) => c.terminate());
     await new Promise((r) => server.close(r));
   }
@@ -152,9 +192,10 @@ async function withClients<T>(
  * lateness. `bare`: the floor of the same measurement on this machine: the frames' bytes encoded
  * beforehand, the panels not answering, nothing judged; only the scheduler and the sockets.
  */
-async function replayAt(speed: number, frames: Frame[], index: Map<string, number>, bare = false) {
-  const preEncoded = bare ? frames.map((f, i) => toWire(f, index, i)) : null;
-  return withClients(async (send, received, judges) => {
+async function replayAt(speed: number, frames: Frame[], bare = false) {
+  const map = benchPanel().map;
+  const preEncoded = bare ? frames.map((f, i) => toWire(f, map, i)) : null;
+  return withClients(async (links) => {
     const lateness: number[] = [];
     // When each frame fell due and went out, and each garbage collection: what makes a frame late.
     const windows: [number, number][] = [];
@@ -162,20 +203,16 @@ async function replayAt(speed: number, frames: Frame[], index: Map<string, numbe
     const gcWatch = new PerformanceObserver((list) => list.getEntries().forEach((e) => collections.push([e.startTime, e.startTime + e.duration])));
     gcWatch.observe({ entryTypes: ["gc"] });
     let sequence = 0;
-    let messages = 0;
     const player = new Player(new ArrayFrameSource(frames), performanceClock, {
       frame(frame, info) {
         const due = performance.now() - info.latenessMs;
-        const wire = preEncoded ? preEncoded[sequence++] : toWire(frame, index, sequence++);
-        for (const bytes of wire) {
-          send(bytes);
-          messages++;
-        }
+        if (preEncoded) for (const bytes of preEncoded[sequence++]) links.sendBytes(bytes);
+        else links.sendFrame(frame);
         // Lateness as a link sees it: from when the frame fell due to when its bytes were handed to the sockets.
         const sent = performance.now();
         lateness.push(sent - due);
         windows.push([due, sent]);
-        judges?.advance(frame.t);
+        if (!bare) links.afterFrame(frame.t);
       },
       keyframe() {},
     });
@@ -189,9 +226,8 @@ async function replayAt(speed: number, frames: Frame[], index: Map<string, numbe
     const wallMs = performance.now() - t0;
     const cpu = process.cpuUsage(cpu0);
     scheduler.stop();
-    const expected = messages * LINKS;
     const deadline = performance.now() + 5000;
-    while (received() < expected && performance.now() < deadline) await new Promise((r) => setTimeout(r, 10));
+    while (links.received() < links.sent() && performance.now() < deadline) await new Promise((r) => setTimeout(r, 10));
     gcWatch.disconnect();
     const late = windows.filter(([due, sent]) => sent - due > 2);
     const lateWithCollection = late.filter(([due, sent]) => collections.some(([from, to]) => from < sent && to > due - 2)).length;
@@ -205,10 +241,10 @@ async function replayAt(speed: number, frames: Frame[], index: Map<string, numbe
       p99: quantileSorted(lateness, 0.99),
       max: lateness[lateness.length - 1],
       cpuShare: (cpu.user + cpu.system) / 1000 / wallMs,
-      delivered: received() / Math.max(1, expected),
+      delivered: links.received() / Math.max(1, links.sent()),
       frames: lateness.length,
-      judged: judges?.reports() ?? 0,
-      announced: judges?.announced() ?? 0,
+      judged: links.reports(),
+      announced: links.announced(),
     };
   }, !bare);
 }
@@ -218,53 +254,48 @@ async function replayAt(speed: number, frames: Frame[], index: Map<string, numbe
  * pre-encoded; the clients answer as in the replay path, and nobody reads the answers.
  */
 async function bareBroadcastRate(wire: Buffer[]) {
-  return withClients(async (send, received) => {
+  return withClients(async (links) => {
     const t0 = performance.now();
-    for (const bytes of wire) send(bytes);
-    const expected = wire.length * LINKS;
-    while (received() < expected) await new Promise((r) => setImmediate(r));
+    for (const bytes of wire) links.sendBytes(bytes);
+    while (links.received() < links.sent()) await new Promise((r) => setImmediate(r));
     return wire.length / ((performance.now() - t0) / 1000);
-  }, false, true);
+  }, true);
 }
 
 /**
- * The whole replay path (player, coalescing, link encoding, sockets, panels answering, live
- * judging) as fast as it goes: a virtual wall clock jumped to each next frame.
+ * The whole replay path (player, coalescing, each link's encoding, sockets, panels answering,
+ * live judging) as fast as it goes: a virtual wall clock jumped to each next frame. Counted in
+ * messages to one link, as the bare broadcast is.
  */
-async function replayPathRate(frames: Frame[], index: Map<string, number>) {
-  return withClients(async (send, received, judges) => {
-    let messages = 0;
-    let sequence = 0;
+async function replayPathRate(frames: Frame[]) {
+  return withClients(async (links) => {
     const wall = { t: 0, now() { return this.t; } };
     const player = new Player(new ArrayFrameSource(frames), wall, {
       frame(frame) {
-        for (const bytes of toWire(frame, index, sequence++)) {
-          send(bytes);
-          messages++;
-        }
-        judges?.advance(frame.t);
+        links.sendFrame(frame);
+        links.afterFrame(frame.t);
       },
       keyframe() {},
     });
+    const sentBefore = links.sent();
     const t0 = performance.now();
     player.play();
     while (player.state === "playing") {
       wall.t += Math.max(0, player.wallDelayToNextFrame());
       player.tick();
     }
-    while (received() < messages * LINKS) await new Promise((r) => setImmediate(r));
-    return messages / ((performance.now() - t0) / 1000);
+    while (links.received() < links.sent()) await new Promise((r) => setImmediate(r));
+    return (links.sent() - sentBefore) / LINKS / ((performance.now() - t0) / 1000);
   }, true);
 }
 
 export async function run(): Promise<BenchReport> {
-  const index = new Map(Array.from({ length: CHANNELS }, (_, c) => [`ch.${c}`, c] as const));
   const rows: BenchRow[] = [];
   for (const speed of [1, 8]) {
     const frames = makeFrames(WALL_SECONDS * 1000 * speed);
-    const r = await replayAt(speed, frames, index);
+    const r = await replayAt(speed, frames);
     // The floor on this machine, in the same run: the scheduler and the sockets alone.
-    const floor = speed === 1 ? await replayAt(speed, frames, index, true) : null;
+    const floor = speed === 1 ? await replayAt(speed, frames, true) : null;
     rows.push(
       { metric: `lateness p50 at ${speed}x (${CHANNELS} channels, ${RATE_HZ} Hz, ${LINKS} WebSocket links)`, value: r.p50, unit: "ms" },
       {
@@ -281,11 +312,12 @@ export async function run(): Promise<BenchReport> {
     );
   }
   const frames = makeFrames(20_000);
-  const wire = frames.flatMap((f, i) => toWire(f, index, i));
+  const map = benchPanel().map;
+  const wire = frames.flatMap((f, i) => toWire(f, map, i));
   const bare = await bareBroadcastRate(wire);
-  const path = await replayPathRate(frames, index);
+  const path = await replayPathRate(frames);
   rows.push({
-    metric: "replay path throughput (player + encoding + sockets + panels answering + live judging)",
+    metric: "replay path throughput (player + each link's encoding + sockets + panels answering + live judging)",
     value: path,
     unit: "messages/s",
     baseline: bare,

@@ -6,7 +6,7 @@ import { LINK_ADDRESS_DIRECT, LINK_MAX_FRAME_BYTES } from "../../shared/link/pro
 import { LinkStreamDecoder, type LinkStreamEvent } from "../../shared/link/stream";
 import { BusMaster } from "../links/bus-master";
 import { openSerialTransport } from "../links/serial-transport";
-import type { ByteTransport } from "../links/transport";
+import { FROM_NODE_POOL, type ByteTransport } from "../links/transport";
 
 /**
  * The bench's side of one panel's link. The run session hands it channel values (a keyframe or
@@ -146,7 +146,7 @@ export class DirectLink implements PanelLink {
     if (!this.write) return;
     const frame: LinkFrame = { address: LINK_ADDRESS_DIRECT, sequence: this.sequence, message };
     this.sequence = (this.sequence + 1) & 0xff;
-    this.write(encodeLinkFrame(frame));
+    this.write(encodeLinkFrame(frame, FROM_NODE_POOL));
   }
 
   update(values: ChannelValue[], keyframe: boolean) {

@@ -3,7 +3,7 @@ import { encodeLinkFrame } from "../../shared/link/codec";
 import type { LinkFrame, LinkMessage } from "../../shared/link/messages";
 import { LINK_ADDRESS_BROADCAST } from "../../shared/link/protocol";
 import { LinkStreamDecoder, type LinkStreamCounts } from "../../shared/link/stream";
-import type { ByteTransport } from "./transport";
+import { FROM_NODE_POOL, type ByteTransport } from "./transport";
 
 export interface BusDeviceCounts {
   sent: number;
@@ -108,7 +108,7 @@ export class BusMaster {
   }
 
   private async transmit(frame: LinkFrame) {
-    const wire = encodeLinkFrame(frame);
+    const wire = encodeLinkFrame(frame, FROM_NODE_POOL);
     if (this.options.modelLineTime !== false) await this.sleep(this.lineFreeAt - this.now());
     this.lastSendStart = this.now();
     await this.transport.write(wire);

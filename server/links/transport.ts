@@ -1,3 +1,9 @@
+/**
+ * Encoding options for frames the server sends: cut from Node's shared buffer pool rather than
+ * each a memory block of its own for the collector to sweep (a run sends one per panel per frame).
+ */
+export const FROM_NODE_POOL = { allocate: (length: number) => Buffer.allocUnsafe(length) };
+
 /** Bytes in and out of one physical or virtual line: a serial port, a pty, a socket, memory. */
 export interface ByteTransport {
   write(bytes: Uint8Array): Promise<void>;

@@ -14,10 +14,19 @@ export function cobsMaxEncodedLength(length: number): number {
 
 export function cobsEncode(input: Uint8Array): Uint8Array {
   const output = new Uint8Array(cobsMaxEncodedLength(input.length));
-  let codeIndex = 0;
+  return output.subarray(0, cobsEncodeInto(input, 0, input.length, output, 0));
+}
+
+/**
+ * COBS-encodes `input[start, end)` into `output` from `at` (room for cobsMaxEncodedLength is the
+ * caller's to give) and returns the encoded length: for encoders that write into a buffer they
+ * reuse rather than making one per frame.
+ */
+export function cobsEncodeInto(input: Uint8Array, start: number, end: number, output: Uint8Array, at: number): number {
+  let codeIndex = at;
   let code = 1;
-  let write = 1;
-  for (let read = 0; read < input.length; read++) {
+  let write = at + 1;
+  for (let read = start; read < end; read++) {
     const byte = input[read];
     if (byte === 0) {
       output[codeIndex] = code;
@@ -29,14 +38,14 @@ export function cobsEncode(input: Uint8Array): Uint8Array {
     code++;
     // A full block of 254 non-zero bytes closes without an implied zero; a new block starts
     // only if more input follows, so 254 non-zero bytes encode to 255 bytes, not 256.
-    if (code === 0xff && read + 1 < input.length) {
+    if (code === 0xff && read + 1 < end) {
       output[codeIndex] = code;
       codeIndex = write++;
       code = 1;
     }
   }
   output[codeIndex] = code;
-  return output.subarray(0, write);
+  return write - at;
 }
 
 export type CobsDecodeResult =

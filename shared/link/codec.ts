@@ -1,4 +1,4 @@
-import { cobsDecode, cobsEncode } from "./cobs";
+import { cobsDecode, cobsEncodeInto, cobsMaxEncodedLength } from "./cobs";
 import { crc16Modbus } from "./crc16";
 import {
   BREAKER_POSITIONS,
@@ -64,6 +64,11 @@ class FrameWriter {
   readonly bytes = new Uint8Array(LINK_MAX_FRAME_BYTES);
   private readonly view = new DataView(this.bytes.buffer);
   length = 0;
+
+  reset(): this {
+    this.length = 0;
+    return this;
+  }
 
   private reserve(count: number, what: string): number {
     // Two bytes stay free for the CRC.
@@ -282,6 +287,20 @@ function writePayload(writer: FrameWriter, message: LinkMessage): void {
 
 /** The frame before stuffing: header, payload and CRC (low byte first). */
 export function encodeLinkFrameBody(frame: LinkFrame): Uint8Array {
+  const writer = sealedBody(frame);
+  return writer.bytes.slice(0, writer.length);
+}
+
+/**
+ * One writer for every frame this thread encodes: encoding runs start to end without a call out,
+ * and a bench sends every frame to every link (a writer each time was a 254-byte buffer each).
+ */
+const sharedWriter = new FrameWriter();
+/** Where frames are stuffed before they are copied out, sized for the largest. */
+const stuffed = new Uint8Array(cobsMaxEncodedLength(LINK_MAX_FRAME_BYTES) + 2);
+
+/** Header, payload and CRC of `frame` in the shared writer (valid until the next encode). */
+function sealedBody(frame: LinkFrame): FrameWriter {
   const address = frame.address;
   checkInteger(address, 0, 0xff, "address");
   if (address > LINK_ADDRESS_LAST_DEVICE && address !== LINK_ADDRESS_BROADCAST) {
@@ -290,13 +309,17 @@ export function encodeLinkFrameBody(frame: LinkFrame): Uint8Array {
   if (address === LINK_ADDRESS_BROADCAST && linkMessageSender(frame.message) === "device") {
     throw new RangeError("a device frame carries the device's own address, never broadcast");
   }
-  const writer = new FrameWriter();
+  const writer = sharedWriter.reset();
   writer.u8(LINK_PROTOCOL_VERSION, "version");
   writer.u8(address, "address");
   writer.u8(typeByte(frame.message), "type");
   writer.u8(frame.sequence, "sequence");
   writePayload(writer, frame.message);
-  return appendCrc(writer.bytes.subarray(0, writer.length));
+  // The writer keeps two bytes free for this (reserve).
+  const crc = crc16Modbus(writer.bytes, 0, writer.length);
+  writer.bytes[writer.length++] = crc & 0xff;
+  writer.bytes[writer.length++] = crc >>> 8;
+  return writer;
 }
 
 function appendCrc(body: Uint8Array): Uint8Array {
@@ -313,17 +336,21 @@ function appendCrc(body: Uint8Array): Uint8Array {
  * and tests that must produce frames the typed encoder refuses (another version, a reserved type).
  */
 export function sealRawLinkFrame(headerAndPayload: Uint8Array): Uint8Array {
-  return stuff(appendCrc(headerAndPayload), false);
+  const sealed = appendCrc(headerAndPayload);
+  return stuff(sealed, sealed.length, false, newBytes);
 }
 
-function stuff(body: Uint8Array, leadingDelimiter: boolean): Uint8Array {
-  const encoded = cobsEncode(body);
+function stuff(body: Uint8Array, length: number, leadingDelimiter: boolean, allocate: (length: number) => Uint8Array): Uint8Array {
   const offset = leadingDelimiter ? 1 : 0;
-  const wire = new Uint8Array(encoded.length + offset + 1);
-  wire.set(encoded, offset);
-  wire[wire.length - 1] = LINK_DELIMITER;
+  stuffed[0] = LINK_DELIMITER;
+  const end = offset + cobsEncodeInto(body, 0, length, stuffed, offset);
+  stuffed[end] = LINK_DELIMITER;
+  const wire = allocate(end + 1);
+  wire.set(stuffed.subarray(0, end + 1));
   return wire;
 }
+
+const newBytes = (length: number) => new Uint8Array(length);
 
 export interface EncodeLinkFrameOptions {
   /**
@@ -331,11 +358,18 @@ export interface EncodeLinkFrameOptions {
    * drops it instead of prefixing it to this one. Worth a byte after the line was idle.
    */
   leadingDelimiter?: boolean;
+  /**
+   * Makes the returned bytes (exactly `length` of them), `new Uint8Array` unless told. The server
+   * passes Node's `Buffer.allocUnsafe`, which cuts small buffers from a shared pool instead of
+   * giving each frame a memory block of its own for the collector to sweep.
+   */
+  allocate?: (length: number) => Uint8Array;
 }
 
 /** The bytes to put on the wire: COBS-stuffed frame and its 0x00 delimiter. */
 export function encodeLinkFrame(frame: LinkFrame, options: EncodeLinkFrameOptions = {}): Uint8Array {
-  return stuff(encodeLinkFrameBody(frame), options.leadingDelimiter ?? false);
+  const writer = sealedBody(frame);
+  return stuff(writer.bytes, writer.length, options.leadingDelimiter ?? false, options.allocate ?? newBytes);
 }
 
 // ---- reading --------------------------------------------------------------------------------

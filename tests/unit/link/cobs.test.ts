@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import seedrandom from "seedrandom";
-import { cobsDecode, cobsEncode, cobsMaxEncodedLength } from "../../../shared/link/cobs";
+import { cobsDecode, cobsEncode, cobsEncodeInto, cobsMaxEncodedLength } from "../../../shared/link/cobs";
 import { bytesToHex, hexToBytes } from "../../../shared/link/hex";
 
 const bytes = (hex: string) => hexToBytes(hex)!;
@@ -78,6 +78,23 @@ describe("COBS decoding of bad input", () => {
       const data = Uint8Array.from({ length: Math.floor(random() * 40) }, () => Math.floor(random() * 256));
       const result = cobsDecode(data);
       expect(typeof result.ok).toBe("boolean");
+    }
+  });
+});
+
+describe("encoding into a buffer", () => {
+  it("a slice of the input, written at an offset, gives the same bytes as encoding the slice alone (500 random cases)", () => {
+    const random = seedrandom("cobs-into");
+    for (let round = 0; round < 500; round++) {
+      const input = Uint8Array.from({ length: Math.floor(random() * 700) }, () => (random() < 0.2 ? 0 : Math.floor(random() * 256)));
+      const start = Math.floor(random() * (input.length + 1));
+      const end = start + Math.floor(random() * (input.length - start + 1));
+      const at = Math.floor(random() * 4);
+      const output = new Uint8Array(at + cobsMaxEncodedLength(end - start) + 3).fill(0xee);
+      const written = cobsEncodeInto(input, start, end, output, at);
+      expect(bytesToHex(output.subarray(at, at + written))).toBe(bytesToHex(cobsEncode(input.slice(start, end))));
+      // Nothing outside its room is touched.
+      expect([...output.subarray(0, at), ...output.subarray(at + written)].every((b) => b === 0xee)).toBe(true);
     }
   });
 });

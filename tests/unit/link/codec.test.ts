@@ -16,6 +16,44 @@ import { ALL_MESSAGE_TYPES, messageGenerator } from "./random-messages";
 
 const bytes = (hex: string) => hexToBytes(hex)!;
 
+describe("encoding into reused buffers", () => {
+  it("frames encoded one after another keep their own bytes (the encoder's buffer is shared)", () => {
+    const generate = messageGenerator("shared-writer");
+    const made: { frame: LinkFrame; wire: Uint8Array; body: Uint8Array; hex: string; bodyHex: string }[] = [];
+    for (let round = 0; round < 200; round++) {
+      const frame = generate.frame(ALL_MESSAGE_TYPES[round % ALL_MESSAGE_TYPES.length]);
+      const wire = encodeLinkFrame(frame, { leadingDelimiter: round % 3 === 0 });
+      const body = encodeLinkFrameBody(frame);
+      made.push({ frame, wire, body, hex: bytesToHex(wire), bodyHex: bytesToHex(body) });
+    }
+    for (const m of made) {
+      expect(bytesToHex(m.wire)).toBe(m.hex);
+      expect(bytesToHex(m.body)).toBe(m.bodyHex);
+      // A leading delimiter is for a stream's receiver; the frame itself follows it.
+      expect(decodeLinkFrame(m.wire[0] === 0 ? m.wire.subarray(1) : m.wire)).toEqual({ ok: true, frame: m.frame });
+    }
+  });
+
+  it("asks the given allocator for exactly the frame's length and returns what it made", () => {
+    const generate = messageGenerator("allocator");
+    for (const type of ALL_MESSAGE_TYPES) {
+      const frame = generate.frame(type);
+      const asked: number[] = [];
+      const wire = encodeLinkFrame(frame, { allocate: (length) => (asked.push(length), Buffer.alloc(length, 0xee)) });
+      expect(Buffer.isBuffer(wire)).toBe(true);
+      expect(asked).toEqual([wire.length]);
+      expect(bytesToHex(wire)).toBe(bytesToHex(encodeLinkFrame(frame)));
+    }
+  });
+
+  it("a refused frame leaves the next one whole", () => {
+    expect(() => encodeLinkFrame({ address: 250, sequence: 0, message: { type: "poll" } })).toThrow(RangeError);
+    expect(() => encodeLinkFrame({ address: 1, sequence: 0, message: { type: "value_update", keyframeBegin: false, keyframeEnd: false, values: [{ channel: 1, kind: "text", value: "x".repeat(40) }] } })).toThrow(RangeError);
+    const frame: LinkFrame = { address: 1, sequence: 7, message: { type: "poll" } };
+    expect(decodeLinkFrame(encodeLinkFrame(frame))).toEqual({ ok: true, frame });
+  });
+});
+
 describe("round trips", () => {
   it("every message type encodes and decodes to itself (300 random frames per type)", () => {
     const generate = messageGenerator("round-trip");
