@@ -56,6 +56,30 @@ export type CobsDecodeResult =
  * Decodes one COBS block sequence. Never throws: a 0x00 inside, or a code byte that points past
  * the end (the frame was cut short, or noise hit a code byte), is reported instead.
  */
+/**
+ * Decodes `input[0, length)` into `output` (at least `length` long) and returns the decoded
+ * length, or -1 when the input is not COBS (`cobsDecode` then says why): for a stream decoder
+ * that unstuffs every frame into the same buffer.
+ */
+export function cobsDecodeInto(input: Uint8Array, length: number, output: Uint8Array): number {
+  let write = 0;
+  let read = 0;
+  while (read < length) {
+    const code = input[read];
+    if (code === 0) return -1;
+    const blockEnd = read + code;
+    if (blockEnd > length) return -1;
+    for (let index = read + 1; index < blockEnd; index++) {
+      const byte = input[index];
+      if (byte === 0) return -1;
+      output[write++] = byte;
+    }
+    read = blockEnd;
+    if (code !== 0xff && read < length) output[write++] = 0;
+  }
+  return write;
+}
+
 export function cobsDecode(input: Uint8Array): CobsDecodeResult {
   const output = new Uint8Array(input.length);
   let write = 0;

@@ -1,5 +1,5 @@
 import { decodeLinkFrameBody, type LinkFrameFault } from "./codec";
-import { cobsDecode } from "./cobs";
+import { cobsDecode, cobsDecodeInto } from "./cobs";
 import type { LinkFrame } from "./messages";
 import { linkMessageSender } from "./messages";
 import { LINK_DELIMITER, LINK_MAX_FRAME_BYTES, LINK_MIN_FRAME_BYTES } from "./protocol";
@@ -74,7 +74,11 @@ export class LinkStreamDecoder {
     this.acceptFrom = options.acceptFrom ?? "both";
     // Up to 254 bytes COBS adds exactly one.
     this.buffer = new Uint8Array(maxFrameBytes + 1);
+    this.unstuffed = new Uint8Array(maxFrameBytes + 1);
   }
+
+  /** Each frame is unstuffed here, then read into messages before the next: one buffer, not one per frame. */
+  private readonly unstuffed: Uint8Array;
 
   get counts(): Readonly<LinkStreamCounts> {
     return { ...this.tally };
@@ -142,12 +146,14 @@ export class LinkStreamDecoder {
   /** Undefined for a good frame from the side this decoder does not listen to. */
   private finishFrame(): LinkStreamEvent | undefined {
     const wireBytes = this.length + 1;
-    const unstuffed = cobsDecode(this.buffer.subarray(0, this.length));
-    if (!unstuffed.ok) {
+    const length = cobsDecodeInto(this.buffer, this.length, this.unstuffed);
+    if (length < 0) {
+      // Not COBS: decode again the slow way only to say where.
+      const why = cobsDecode(this.buffer.subarray(0, this.length));
       this.tally.truncated++;
-      return { ok: false, fault: "truncated", detail: `COBS: ${unstuffed.detail}`, wireBytes };
+      return { ok: false, fault: "truncated", detail: `COBS: ${why.ok ? "malformed" : why.detail}`, wireBytes };
     }
-    const result = decodeLinkFrameBody(unstuffed.bytes, this.maxFrameBytes);
+    const result = decodeLinkFrameBody(this.unstuffed.subarray(0, length), this.maxFrameBytes);
     if (!result.ok) {
       this.tally[FAULT_COUNTER[result.fault]]++;
       return { ...result, wireBytes };

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import seedrandom from "seedrandom";
-import { cobsDecode, cobsEncode, cobsEncodeInto, cobsMaxEncodedLength } from "../../../shared/link/cobs";
+import { cobsDecode, cobsDecodeInto, cobsEncode, cobsEncodeInto, cobsMaxEncodedLength } from "../../../shared/link/cobs";
 import { bytesToHex, hexToBytes } from "../../../shared/link/hex";
 
 const bytes = (hex: string) => hexToBytes(hex)!;
@@ -95,6 +95,23 @@ describe("encoding into a buffer", () => {
       expect(bytesToHex(output.subarray(at, at + written))).toBe(bytesToHex(cobsEncode(input.slice(start, end))));
       // Nothing outside its room is touched.
       expect([...output.subarray(0, at), ...output.subarray(at + written)].every((b) => b === 0xee)).toBe(true);
+    }
+  });
+});
+
+describe("decoding into a buffer", () => {
+  it("agrees with cobsDecode on any bytes: the same output, or -1 exactly when it refuses (2,000 random inputs)", () => {
+    const random = seedrandom("cobs-decode-into");
+    for (let round = 0; round < 2000; round++) {
+      // Half are real encodings (maybe damaged), half are noise.
+      const noise = Uint8Array.from({ length: Math.floor(random() * 300) }, () => (random() < 0.1 ? 0 : Math.floor(random() * 256)));
+      const input = round % 2 === 0 ? cobsEncode(noise).slice() : noise;
+      if (round % 4 === 0 && input.length > 0) input[Math.floor(random() * input.length)] = Math.floor(random() * 256);
+      const output = new Uint8Array(input.length + 1).fill(0xee);
+      const length = cobsDecodeInto(input, input.length, output);
+      const reference = cobsDecode(input);
+      if (reference.ok) expect(bytesToHex(output.subarray(0, length))).toBe(bytesToHex(reference.bytes));
+      else expect(length).toBe(-1);
     }
   });
 });
