@@ -21,6 +21,7 @@ import type { BenchReport, BenchRow } from "./harness";
 const CHANNELS = 500;
 const RATE_HZ = 60;
 const LINKS = 20;
+const THROUGHPUT_ROUNDS = 3;
 // Panels on every link answer each update and the bench judges the answers live (the comparator in the loop).
 // Each speed plays this long (15 s: 900 frames at 1x). A p99 over 360 frames (6 s) is the fourth
 // worst frame, one pause of this VM away from another figure; over 900 it is the ninth.
@@ -99,9 +100,10 @@ interface BenchLinks {
  * (`DirectLink`, one panel each, as a run holds them). With `answering`, each client is a panel
  * that answers every update with a seen report; the link decodes it, `seenFromLink` turns it into
  * samples, and a live judge per link takes them and is advanced after every frame: the comparator
- * runs in the loop, as in a run.
+ * runs in the loop, as in a run. Without `reading`, the answers arrive and nobody reads them (the
+ * bare broadcast).
  */
-async function withClients<T>(work: (links: BenchLinks) => Promise<T>, answering: boolean): Promise<T> {
+async function withClients<T>(work: (links: BenchLinks) => Promise<T>, answering: boolean, reading = answering): Promise<T> {
   const server = new WebSocketServer({ port: 0, host: "127.0.0.1" });
   await new Promise((r) => server.once("listening", r));
   const port = (server.address() as AddressInfo).port;
@@ -130,6 +132,7 @@ async function withClients<T>(work: (links: BenchLinks) => Promise<T>, answering
       down() {},
     });
     socket.on("message", (data) => {
+      if (!reading) return;
       const b = data as Buffer;
       link.receive(new Uint8Array(b.buffer, b.byteOffset, b.length));
     });
@@ -153,11 +156,11 @@ async function withClients<T>(work: (links: BenchLinks) => Promise<T>, answering
   );
   while (links.length < LINKS) await new Promise((r) => setTimeout(r, 5));
   const benchLinks: BenchLinks = {
+    // As RunSession.sendFrame: the panels read the same channels, so they share one map and the
+    // frame's values are made once; each link seals the shared encoding with its own sequence.
     sendFrame(frame) {
-      for (let i = 0; i < links.length; i++) {
-        const values = map.valuesOf(frame.v);
-        if (values.length) links[i].link.update(values, false);
-      }
+      const values = map.valuesOf(frame.v);
+      if (values.length) for (let i = 0; i < links.length; i++) links[i].link.update(values, false);
     },
     sendBytes(bytes) {
       for (const c of server.clients) c.send(bytes);
@@ -259,7 +262,7 @@ async function bareBroadcastRate(wire: Buffer[]) {
     for (const bytes of wire) links.sendBytes(bytes);
     while (links.received() < links.sent()) await new Promise((r) => setImmediate(r));
     return wire.length / ((performance.now() - t0) / 1000);
-  }, true);
+  }, true, false);
 }
 
 /**
@@ -314,8 +317,16 @@ export async function run(): Promise<BenchReport> {
   const frames = makeFrames(20_000);
   const map = benchPanel().map;
   const wire = frames.flatMap((f, i) => toWire(f, map, i));
-  const bare = await bareBroadcastRate(wire);
-  const path = await replayPathRate(frames);
+  // Best of three alternating rounds each: a single round of either swung by a third from run to
+  // run on this VM, and noise only ever slows a round down.
+  const bareRounds: number[] = [];
+  const pathRounds: number[] = [];
+  for (let round = 0; round < THROUGHPUT_ROUNDS; round++) {
+    bareRounds.push(await bareBroadcastRate(wire));
+    pathRounds.push(await replayPathRate(frames));
+  }
+  const bare = Math.max(...bareRounds);
+  const path = Math.max(...pathRounds);
   rows.push({
     metric: "replay path throughput (player + each link's encoding + sockets + panels answering + live judging)",
     value: path,
@@ -324,6 +335,7 @@ export async function run(): Promise<BenchReport> {
     ratio: path / bare,
     target: ">= 0.7 of a bare ws broadcast of the same bytes",
     met: path / bare >= 0.7,
+    note: `best of ${THROUGHPUT_ROUNDS} alternating rounds each; path rounds ${pathRounds.map((r) => r.toFixed(0)).join(", ")}, bare rounds ${bareRounds.map((r) => r.toFixed(0)).join(", ")}`,
   });
   return { topic: "replay", rows };
 }

@@ -128,6 +128,8 @@ export interface SessionDeps {
 export class RunSession {
   readonly runId: string;
   private readonly panels: SessionPanel[] = [];
+  /** The panels in the order frames go out: those sharing a value map next to each other. */
+  private readonly sendOrder: SessionPanel[];
   private readonly player: Player;
   private readonly scheduler: ReplayScheduler;
   private readonly fromMs: number;
@@ -174,6 +176,15 @@ export class RunSession {
     // zlib), never held all at once.
     const base = new SegmentFrameSource(segments, durationMs, 4, (payload) => decodeSegment(payload, nativeInflate));
     const source = new WindowSource(base, this.endMs);
+    // Panels that read the same channels share one map, so a frame's values (and their encoding,
+    // DirectLink.update) are made once for all of them: a shop testing several of one kit.
+    const maps = new Map<string, PanelValueMap>();
+    const mapFor = (names: string[]) => {
+      const key = names.join("\n");
+      let map = maps.get(key);
+      if (!map) maps.set(key, (map = new PanelValueMap(names, channels)));
+      return map;
+    };
     for (const [index, snapshot] of row.panels.entries()) {
       const def = snapshot.definition;
       const timelines: ExpectedTimelines = { ...expected[index], startMs: this.fromMs, endMs: this.endMs };
@@ -185,7 +196,7 @@ export class RunSession {
         snapshot,
         elements: def.elements,
         byId,
-        map: new PanelValueMap(panelChannels(def), channels),
+        map: mapFor(panelChannels(def)),
         timelines,
         link: null as unknown as PanelLink,
         judge: new RunJudge(timelines, (id) => tolerancesOf(byId.get(id), this.tolerance)),
@@ -203,6 +214,10 @@ export class RunSession {
       panel.link = this.makeLink(panel, linkInput);
       this.panels.push(panel);
     }
+    // Panels sharing a map side by side, so each frame's values are made once per map.
+    const firstOfMap = new Map<PanelValueMap, number>();
+    this.panels.forEach((p, i) => firstOfMap.set(p.map, firstOfMap.get(p.map) ?? i));
+    this.sendOrder = [...this.panels].sort((a, b) => firstOfMap.get(a.map)! - firstOfMap.get(b.map)!);
     this.checks = runChecks.parse(row.checks ?? {});
     this.checks.asking = null; // a question left open by an earlier session is asked again when play crosses it
     this.planCheckpoints();
@@ -284,8 +299,13 @@ export class RunSession {
 
   private sendFrame(frame: Frame) {
     this.lastSent = frame.t;
-    for (const p of this.panels) {
-      const values = p.map.valuesOf(frame.v);
+    let map: PanelValueMap | null = null;
+    let values: ReturnType<PanelValueMap["valuesOf"]> = [];
+    for (const p of this.sendOrder) {
+      if (p.map !== map) {
+        map = p.map;
+        values = map.valuesOf(frame.v);
+      }
       if (values.length) p.link.update(values, false);
     }
   }

@@ -16,12 +16,11 @@ export type LinkReading =
 export function seenFromLink(elements: readonly Element[], entry: SeenEntry, t: number): LinkReading {
   const el = elements[entry.element];
   if (!el) return { ok: false, reason: "unknown_element", detail: `element index ${entry.element}: the panel has ${elements.length} elements` };
-  const wrong = (): LinkReading => ({ ok: false, reason: "wrong_kind", detail: `element ${el.id} is a ${el.kind}; it cannot report ${entry.kind}` });
   switch (entry.kind) {
     case "unknown":
       return { ok: false, reason: "cannot_tell", detail: `element ${el.id} cannot tell what it shows` };
     case "lamp_state":
-      if (el.kind !== "lamp" && el.kind !== "button") return wrong();
+      if (el.kind !== "lamp" && el.kind !== "button") return wrongKind(el, entry);
       return {
         ok: true,
         elementId: el.id,
@@ -29,28 +28,34 @@ export function seenFromLink(elements: readonly Element[], entry: SeenEntry, t: 
         sample: { t, shows: { track: "lamp", lamp: entry.state === "off" ? { state: "off" } : entry.state === "on" ? { state: "on", level: 255 } : { state: "flashing", periodMs: 0, level: 255 } } },
       };
     case "lamp_level":
-      if (el.kind !== "lamp" && el.kind !== "button") return wrong();
+      if (el.kind !== "lamp" && el.kind !== "button") return wrongKind(el, entry);
       return { ok: true, elementId: el.id, sample: { t, shows: { track: "lamp", lamp: entry.level === 0 ? { state: "off" } : { state: "on", level: entry.level } } } };
     case "pointer_angle":
-      if (el.kind !== "pointer") return wrong();
+      if (el.kind !== "pointer") return wrongKind(el, entry);
       return { ok: true, elementId: el.id, sample: { t, shows: { track: "angle", angle: entry.centidegrees / 100 } } };
     case "pointer_steps":
-      if (el.kind !== "pointer") return wrong();
+      if (el.kind !== "pointer") return wrongKind(el, entry);
       if (!el.motor) return { ok: false, reason: "wrong_kind", detail: `pointer ${el.id} reports steps but has no motor profile to turn them into degrees` };
       return { ok: true, elementId: el.id, sample: { t, shows: { track: "angle", angle: stepsToAngle(el.motor, entry.steps) } } };
     case "readout":
-      if (el.kind !== "readout") return wrong();
+      if (el.kind !== "readout") return wrongKind(el, entry);
       return { ok: true, elementId: el.id, sample: { t, shows: { track: "text", text: entry.text } } };
     case "breaker":
-      if (el.kind !== "breaker") return wrong();
+      if (el.kind !== "breaker") return wrongKind(el, entry);
       return { ok: true, elementId: el.id, sample: { t, shows: { track: "breaker", breaker: entry.position } } };
     case "switch": {
-      if (el.kind !== "switch" && el.kind !== "lever") return wrong();
+      if (el.kind !== "switch" && el.kind !== "lever") return wrongKind(el, entry);
       const name = el.positions[entry.position];
       if (name === undefined) return { ok: false, reason: "unknown_position", detail: `element ${el.id} has ${el.positions.length} positions; index ${entry.position} is none of them` };
       return { ok: true, elementId: el.id, sample: { t, shows: { track: "position", position: name } } };
     }
   }
+}
+
+// Not a closure inside seenFromLink: that ran for every report of every panel, and made (and,
+// under tsx, named) a function each time.
+function wrongKind(el: Element, entry: SeenEntry): LinkReading {
+  return { ok: false, reason: "wrong_kind", detail: `element ${el.id} is a ${el.kind}; it cannot report ${entry.kind}` };
 }
 
 /** An input event (a switch or lever moved by hand) as a seen position. */

@@ -299,27 +299,63 @@ const sharedWriter = new FrameWriter();
 /** Where frames are stuffed before they are copied out, sized for the largest. */
 const stuffed = new Uint8Array(cobsMaxEncodedLength(LINK_MAX_FRAME_BYTES) + 2);
 
-/** Header, payload and CRC of `frame` in the shared writer (valid until the next encode). */
-function sealedBody(frame: LinkFrame): FrameWriter {
-  const address = frame.address;
+/** The shared writer, emptied, with the header written. */
+function startFrame(address: number, sequence: number, message: LinkMessage): FrameWriter {
   checkInteger(address, 0, 0xff, "address");
   if (address > LINK_ADDRESS_LAST_DEVICE && address !== LINK_ADDRESS_BROADCAST) {
     throw new RangeError(`address ${address} is reserved (248..254)`);
   }
-  if (address === LINK_ADDRESS_BROADCAST && linkMessageSender(frame.message) === "device") {
+  if (address === LINK_ADDRESS_BROADCAST && linkMessageSender(message) === "device") {
     throw new RangeError("a device frame carries the device's own address, never broadcast");
   }
   const writer = sharedWriter.reset();
   writer.u8(LINK_PROTOCOL_VERSION, "version");
   writer.u8(address, "address");
-  writer.u8(typeByte(frame.message), "type");
-  writer.u8(frame.sequence, "sequence");
-  writePayload(writer, frame.message);
-  // The writer keeps two bytes free for this (reserve).
+  writer.u8(typeByte(message), "type");
+  writer.u8(sequence, "sequence");
+  return writer;
+}
+
+/** Appends the CRC of everything written (the writer keeps two bytes free for it). */
+function endFrame(writer: FrameWriter): FrameWriter {
   const crc = crc16Modbus(writer.bytes, 0, writer.length);
   writer.bytes[writer.length++] = crc & 0xff;
   writer.bytes[writer.length++] = crc >>> 8;
   return writer;
+}
+
+/** Header, payload and CRC of `frame` in the shared writer (valid until the next encode). */
+function sealedBody(frame: LinkFrame): FrameWriter {
+  const writer = startFrame(frame.address, frame.sequence, frame.message);
+  writePayload(writer, frame.message);
+  return endFrame(writer);
+}
+
+/**
+ * A message's payload, encoded once to go out on several links: each seals it with its own
+ * address and sequence (`sealLinkMessage`). A run sends the same update to every panel that
+ * reads the same channels; the payload is most of the work.
+ */
+export interface EncodedLinkMessage {
+  readonly message: LinkMessage;
+  readonly payload: Uint8Array;
+}
+
+export function encodeLinkMessage(message: LinkMessage): EncodedLinkMessage {
+  const writer = sharedWriter.reset();
+  // Written where it sits in a frame, so the frame-size limit counts the same.
+  writer.length = LINK_HEADER_BYTES;
+  writePayload(writer, message);
+  return { message, payload: writer.bytes.slice(LINK_HEADER_BYTES, writer.length) };
+}
+
+/** The wire bytes of an encoded message from `address` with `sequence`: the same as encodeLinkFrame's. */
+export function sealLinkMessage(address: number, sequence: number, encoded: EncodedLinkMessage, options: EncodeLinkFrameOptions = {}): Uint8Array {
+  const writer = startFrame(address, sequence, encoded.message);
+  writer.bytes.set(encoded.payload, writer.length);
+  writer.length += encoded.payload.length;
+  endFrame(writer);
+  return stuff(writer.bytes, writer.length, options.leadingDelimiter ?? false, options.allocate ?? newBytes);
 }
 
 function appendCrc(body: Uint8Array): Uint8Array {
