@@ -378,6 +378,13 @@ export function sealRawLinkFrame(headerAndPayload: Uint8Array): Uint8Array {
 
 function stuff(body: Uint8Array, length: number, leadingDelimiter: boolean, allocate: (length: number) => Uint8Array): Uint8Array {
   const offset = leadingDelimiter ? 1 : 0;
+  if (length <= COBS_BLOCK) {
+    // Up to one block, COBS adds exactly one byte: stuff straight into the bytes handed back.
+    const wire = allocate(offset + length + 2);
+    wire[0] = LINK_DELIMITER;
+    wire[offset + cobsEncodeInto(body, 0, length, wire, offset)] = LINK_DELIMITER;
+    return wire;
+  }
   stuffed[0] = LINK_DELIMITER;
   const end = offset + cobsEncodeInto(body, 0, length, stuffed, offset);
   stuffed[end] = LINK_DELIMITER;
@@ -387,6 +394,9 @@ function stuff(body: Uint8Array, length: number, leadingDelimiter: boolean, allo
 }
 
 const newBytes = (length: number) => new Uint8Array(length);
+
+/** The most bytes COBS carries behind one code byte. */
+const COBS_BLOCK = 254;
 
 export interface EncodeLinkFrameOptions {
   /**

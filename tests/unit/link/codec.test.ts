@@ -11,7 +11,7 @@ import { crc16Modbus } from "../../../shared/link/crc16";
 import { bytesToHex, hexToBytes } from "../../../shared/link/hex";
 import { linkFrame, type LinkFrame } from "../../../shared/link/messages";
 import { LINK_MAX_FRAME_BYTES } from "../../../shared/link/protocol";
-import { cobsDecode } from "../../../shared/link/cobs";
+import { cobsDecode, cobsEncode } from "../../../shared/link/cobs";
 import { ALL_MESSAGE_TYPES, messageGenerator } from "./random-messages";
 
 const bytes = (hex: string) => hexToBytes(hex)!;
@@ -43,6 +43,18 @@ describe("encoding into reused buffers", () => {
       expect(Buffer.isBuffer(wire)).toBe(true);
       expect(asked).toEqual([wire.length]);
       expect(bytesToHex(wire)).toBe(bytesToHex(encodeLinkFrame(frame)));
+    }
+  });
+
+  it("stuffs bodies at and past one COBS block (254 bytes) the same as the reference stuffing", () => {
+    for (const length of [1, 2, 200, 252, 253, 254, 300]) {
+      for (const fill of [0x41, 0x00]) {
+        const headerAndPayload = new Uint8Array(length).fill(fill);
+        const wire = sealRawLinkFrame(headerAndPayload);
+        const crc = crc16Modbus(headerAndPayload);
+        const body = new Uint8Array([...headerAndPayload, crc & 0xff, crc >>> 8]);
+        expect(bytesToHex(wire)).toBe(bytesToHex(new Uint8Array([...cobsEncode(body), 0])));
+      }
     }
   });
 
