@@ -1,4 +1,4 @@
-import { cobsDecode, cobsEncodeInto, cobsMaxEncodedLength } from "./cobs";
+import { cobsDecode, cobsEncode, cobsEncodeInto } from "./cobs";
 import { crc16Modbus } from "./crc16";
 import {
   BREAKER_POSITIONS,
@@ -296,8 +296,6 @@ export function encodeLinkFrameBody(frame: LinkFrame): Uint8Array {
  * and a bench sends every frame to every link (a writer each time was a 254-byte buffer each).
  */
 const sharedWriter = new FrameWriter();
-/** Where frames are stuffed before they are copied out, sized for the largest. */
-const stuffed = new Uint8Array(cobsMaxEncodedLength(LINK_MAX_FRAME_BYTES) + 2);
 
 /** The shared writer, emptied, with the header written. */
 function startFrame(address: number, sequence: number, message: LinkMessage): FrameWriter {
@@ -385,11 +383,12 @@ function stuff(body: Uint8Array, length: number, leadingDelimiter: boolean, allo
     wire[offset + cobsEncodeInto(body, 0, length, wire, offset)] = LINK_DELIMITER;
     return wire;
   }
-  stuffed[0] = LINK_DELIMITER;
-  const end = offset + cobsEncodeInto(body, 0, length, stuffed, offset);
-  stuffed[end] = LINK_DELIMITER;
-  const wire = allocate(end + 1);
-  wire.set(stuffed.subarray(0, end + 1));
+  // Longer than any frame the codec makes (raw frames from tools and tests): the plain way.
+  const encoded = cobsEncode(body.subarray(0, length));
+  const wire = allocate(offset + encoded.length + 1);
+  wire[0] = LINK_DELIMITER;
+  wire.set(encoded, offset);
+  wire[offset + encoded.length] = LINK_DELIMITER;
   return wire;
 }
 
