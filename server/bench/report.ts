@@ -32,7 +32,7 @@ export function summaryOf(row: RunRow, recordingName: string, runs: RunManager):
     recordingId: row.recordingId,
     recordingName,
     panelIds: row.links.map((l) => l.panelId),
-    state: live?.state ?? runs.effectiveState(row),
+    state: runs.effectiveState(row),
     speed: live?.speed ?? row.speed,
     positionMs: live?.positionMs ?? row.positionMs,
     durationMs: row.durationMs,

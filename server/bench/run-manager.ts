@@ -78,7 +78,13 @@ export class RunManager {
   /** The state to show: a held state without a live holder reads as interrupted. */
   effectiveState(row: RunRow): RunRow["state"] {
     if (!(HELD_STATES as readonly string[]).includes(row.state)) return row.state;
-    if (this.sessions.has(row.id)) return this.sessions.get(row.id)!.view().state;
+    if (this.sessions.has(row.id)) {
+      const live = this.sessions.get(row.id)!.view().state;
+      // A session reads finished once its results are stored, but `row` may have been read just
+      // before: then it has no counts yet, so it keeps its own state and the reader asks again.
+      // (Seen as a finished run with every count 0 beside failing elements.)
+      return live === "finished" ? row.state : live;
+    }
     const fresh = row.aliveAt && Date.now() - row.aliveAt.getTime() < STALE_AFTER_MS;
     return row.heldBy && row.heldBy !== this.processId && fresh ? row.state : "interrupted";
   }

@@ -28,7 +28,7 @@ import type { Database } from "../db/client";
 import { run, seenLog, type RunPanelSnapshot, type StoredLinkStatus } from "../db/schema";
 import { ReplayScheduler } from "./scheduler";
 import { DirectLink, Rs485Port, SerialLink, type LinkEvents, type PanelLink } from "./links";
-import { encodeSeenChunk, type SeenRecord } from "./seen-log";
+import { deflateSeenChunk, SeenChunkBuilder, type SeenRecord } from "./seen-log";
 import { PanelValueMap } from "../../shared/link/panel-values";
 
 type RunState = (typeof RUN_STATES)[number];
@@ -64,8 +64,8 @@ interface SessionPanel {
   timelines: ExpectedTimelines;
   link: PanelLink;
   judge: RunJudge;
-  buffer: SeenRecord[];
-  bufferFrom: number;
+  /** Reports since the panel's last stored chunk of the seen log. */
+  chunk: SeenChunkBuilder;
   lastT: Map<string, number>;
   /** What each element last said it shows: carried into a new pass at a cut (panels report changes only). */
   lastShown: Map<string, SeenRecord["sample"]["shows"]>;
@@ -200,8 +200,7 @@ export class RunSession {
         timelines,
         link: null as unknown as PanelLink,
         judge: new RunJudge(timelines, (id) => tolerancesOf(byId.get(id), this.tolerance)),
-        buffer: [],
-        bufferFrom: 0,
+        chunk: new SeenChunkBuilder(),
         lastT: new Map(),
         lastShown: new Map(),
         advancedTo: this.fromMs,
@@ -404,27 +403,31 @@ export class RunSession {
     panel.lastT.set(elementId, t);
     panel.lastShown.set(elementId, sample.shows);
     const s = { t, shows: sample.shows };
-    if (panel.buffer.length === 0) panel.bufferFrom = t;
-    panel.buffer.push({ elementId, sample: s });
+    panel.chunk.add(elementId, s);
     panel.judge.addSeen(elementId, s);
-    if (panel.buffer.length >= CHUNK_RECORDS || t - panel.bufferFrom >= CHUNK_MS) this.flushPanel(panel);
+    if (panel.chunk.count >= CHUNK_RECORDS || t - panel.chunk.fromMs >= CHUNK_MS) this.flushPanel(panel);
   }
 
+  /** Stores what the panel reported since its last chunk: deflated off the event loop, written in order. */
   private flushPanel(panel: SessionPanel) {
-    if (panel.buffer.length === 0) return;
-    const records = panel.buffer;
-    panel.buffer = [];
+    const chunk = panel.chunk;
+    if (chunk.count === 0) return;
+    panel.chunk = new SeenChunkBuilder();
     const row = {
       runId: this.runId,
       panelId: panel.snapshot.panelId,
       chunk: this.chunk++,
       epoch: this.epoch,
-      fromMs: records[0].sample.t,
-      toMs: records[records.length - 1].sample.t,
-      count: records.length,
-      payload: encodeSeenChunk(records),
+      fromMs: chunk.fromMs,
+      toMs: chunk.toMs,
+      count: chunk.count,
     };
-    this.chain(() => this.deps.db.insert(seenLog).values(row).then(() => undefined));
+    const payload = deflateSeenChunk(chunk);
+    // Handled where it is awaited, in order; marked here so a failure cannot count as unhandled meanwhile.
+    payload.catch(() => {});
+    this.chain(async () => {
+      await this.deps.db.insert(seenLog).values({ ...row, payload: await payload });
+    });
   }
 
   private chain(work: () => Promise<void>) {

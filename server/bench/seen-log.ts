@@ -1,3 +1,5 @@
+import { promisify } from "node:util";
+import { deflateRaw } from "node:zlib";
 import { deflateSync, inflateSync, strFromU8, strToU8 } from "fflate";
 import type { SeenSample, SeenShows } from "../../shared/compare/types";
 
@@ -48,20 +50,53 @@ function showsOf(row: Row): SeenShows {
   }
 }
 
-export function encodeSeenChunk(records: readonly SeenRecord[]): Buffer {
-  const ids: string[] = [];
-  const at = new Map<string, number>();
-  const rows: Row[] = [];
-  for (const r of records) {
-    let e = at.get(r.elementId);
+/**
+ * A chunk's JSON built as reports arrive: each report becomes its row's text when it is added,
+ * so closing a chunk only joins text. Turning a whole chunk into rows at once took 6 to 10 ms
+ * for 4,800 reports, inside a run's event loop, for every panel at the same moment.
+ */
+export class SeenChunkBuilder {
+  private readonly ids: string[] = [];
+  private readonly at = new Map<string, number>();
+  private rows = "";
+  count = 0;
+  fromMs = 0;
+  toMs = 0;
+
+  add(elementId: string, sample: SeenSample) {
+    let e = this.at.get(elementId);
     if (e === undefined) {
-      e = ids.length;
-      ids.push(r.elementId);
-      at.set(r.elementId, e);
+      e = this.ids.length;
+      this.ids.push(elementId);
+      this.at.set(elementId, e);
     }
-    rows.push(rowOf(r.sample.t, e, r.sample.shows));
+    const row = JSON.stringify(rowOf(sample.t, e, sample.shows));
+    this.rows = this.count === 0 ? row : `${this.rows},${row}`;
+    if (this.count === 0) this.fromMs = sample.t;
+    this.toMs = sample.t;
+    this.count++;
   }
-  return Buffer.from(deflateSync(strToU8(JSON.stringify({ v: 1, e: ids, s: rows })), { level: 6 }));
+
+  /** The chunk as JSON text, the same as JSON.stringify of `{ v, e, s }`. */
+  json(): string {
+    return `{"v":1,"e":${JSON.stringify(this.ids)},"s":[${this.rows}]}`;
+  }
+}
+
+export function encodeSeenChunk(records: readonly SeenRecord[]): Buffer {
+  const builder = new SeenChunkBuilder();
+  for (const r of records) builder.add(r.elementId, r.sample);
+  return Buffer.from(deflateSync(strToU8(builder.json()), { level: 6 }));
+}
+
+const deflateRawAsync = promisify(deflateRaw);
+
+/**
+ * The same chunk deflated on Node's thread pool (raw DEFLATE, as fflate's, which reads it back),
+ * so a run's event loop only joins the text.
+ */
+export function deflateSeenChunk(builder: SeenChunkBuilder): Promise<Buffer> {
+  return deflateRawAsync(builder.json(), { level: 6 });
 }
 
 export function decodeSeenChunk(payload: Uint8Array): SeenRecord[] {
