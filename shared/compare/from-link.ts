@@ -1,7 +1,7 @@
 import type { Element } from "../elements/kinds";
 import { stepsToAngle } from "../elements/scale/motor";
 import type { InputEntry, SeenEntry } from "../link/messages";
-import type { SeenSample } from "./types";
+import type { SeenSample, SeenShows } from "./types";
 
 export type LinkReading =
   | { ok: true; elementId: string; sample: SeenSample }
@@ -21,15 +21,11 @@ export function seenFromLink(elements: readonly Element[], entry: SeenEntry, t: 
       return { ok: false, reason: "cannot_tell", detail: `element ${el.id} cannot tell what it shows` };
     case "lamp_state":
       if (el.kind !== "lamp" && el.kind !== "button") return wrongKind(el, entry);
-      return {
-        ok: true,
-        elementId: el.id,
-        // A state report carries no period (0: "any"), and a lit lamp counts as full brightness.
-        sample: { t, shows: { track: "lamp", lamp: entry.state === "off" ? { state: "off" } : entry.state === "on" ? { state: "on", level: 255 } : { state: "flashing", periodMs: 0, level: 255 } } },
-      };
+      // A state report carries no period (0: "any"), and a lit lamp counts as full brightness.
+      return { ok: true, elementId: el.id, sample: { t, shows: entry.state === "off" ? LAMP_OFF : entry.state === "on" ? lampAt(255) : LAMP_FLASHING } };
     case "lamp_level":
       if (el.kind !== "lamp" && el.kind !== "button") return wrongKind(el, entry);
-      return { ok: true, elementId: el.id, sample: { t, shows: { track: "lamp", lamp: entry.level === 0 ? { state: "off" } : { state: "on", level: entry.level } } } };
+      return { ok: true, elementId: el.id, sample: { t, shows: entry.level === 0 ? LAMP_OFF : lampAt(entry.level) } };
     case "pointer_angle":
       if (el.kind !== "pointer") return wrongKind(el, entry);
       return { ok: true, elementId: el.id, sample: { t, shows: { track: "angle", angle: entry.centidegrees / 100 } } };
@@ -50,6 +46,16 @@ export function seenFromLink(elements: readonly Element[], entry: SeenEntry, t: 
       return { ok: true, elementId: el.id, sample: { t, shows: { track: "position", position: name } } };
     }
   }
+}
+
+// What a lamp shows is one of a few hundred values: one frozen object each, shared by every
+// report that says it (lamps report all the time; an object per report kept the collector busy).
+const LAMP_OFF: SeenShows = Object.freeze({ track: "lamp", lamp: Object.freeze({ state: "off" }) });
+const LAMP_FLASHING: SeenShows = Object.freeze({ track: "lamp", lamp: Object.freeze({ state: "flashing", periodMs: 0, level: 255 }) });
+const LAMP_LEVELS: SeenShows[] = [];
+
+function lampAt(level: number): SeenShows {
+  return (LAMP_LEVELS[level] ??= Object.freeze({ track: "lamp", lamp: Object.freeze({ state: "on", level }) }));
 }
 
 // Not a closure inside seenFromLink: that ran for every report of every panel, and made (and,
