@@ -1,5 +1,6 @@
 import type { AngleTrack } from "../expect/types";
 import { forgetFront, seenMemory, shouldForget } from "./seen-memory";
+import { clipToGapEdges, noDataAt } from "./gaps";
 import { MismatchSweep, type Piece } from "./sweep";
 import type { LinkGap, Mismatch } from "./types";
 
@@ -165,15 +166,6 @@ export class AngleTrackJudge {
     return true;
   }
 
-  /** In a gap, or holding a report from before a gap that has ended since: no data either way. */
-  private noDataAt(t: number, seenT: number) {
-    for (const g of this.gaps) {
-      if (t >= g.fromMs && t < g.toMs) return true;
-      if (seenT < g.toMs && g.toMs <= t) return true;
-    }
-    return false;
-  }
-
   /** The next instant after `a` at which the verdict may change. */
   private nextInstant(a: number, limit: number): number {
     const times = this.track.t;
@@ -186,11 +178,7 @@ export class AngleTrackJudge {
     if (this.nextLeavingIndex < times.length && times[this.nextLeavingIndex] + this.lagBudgetMs < b) b = times[this.nextLeavingIndex] + this.lagBudgetMs;
     const nextSeen = this.seenIndex + 1 < this.seenT.length ? this.seenT[this.seenIndex + 1] : Infinity;
     if (nextSeen < b) b = nextSeen;
-    for (let i = 0; i < this.gaps.length; i++) {
-      const g = this.gaps[i];
-      if (g.fromMs > a && g.fromMs < b) b = g.fromMs;
-      if (g.toMs > a && g.toMs < b) b = g.toMs;
-    }
+    b = clipToGapEdges(this.gaps, a, b);
     return b;
   }
 
@@ -225,7 +213,7 @@ export class AngleTrackJudge {
       p.expected = undefined;
       p.seen = undefined;
       const started = this.track.t.length > 0 && this.track.t[0] <= a;
-      if (started && (this.seenIndex < 0 || (this.gaps.length > 0 && this.noDataAt(a, this.seenT[this.seenIndex])))) p.noData = true;
+      if (started && (this.seenIndex < 0 || (this.gaps.length > 0 && noDataAt(this.gaps, a, this.seenT[this.seenIndex])))) p.noData = true;
       else if (started) {
         const seen = this.seenAngle[this.seenIndex];
         if (this.distance(a, seen) && this.distError > this.toleranceDeg) {

@@ -1,5 +1,6 @@
 import type { Change } from "../expect/types";
 import { forgetFront, seenMemory, shouldForget } from "./seen-memory";
+import { clipToGapEdges, noDataAt } from "./gaps";
 import { MismatchSweep, type Piece } from "./sweep";
 import type { JudgedTrack, LinkGap, Mismatch } from "./types";
 
@@ -53,15 +54,6 @@ export class DiscreteTrackJudge<V> {
     if (gap.toMs > gap.fromMs) this.gaps.push(gap);
   }
 
-  /** In a gap, or holding a report from before a gap that has ended since: no data either way. */
-  private noDataAt(t: number, seenT: number) {
-    for (const g of this.gaps) {
-      if (t >= g.fromMs && t < g.toMs) return true;
-      if (seenT < g.toMs && g.toMs <= t) return true;
-    }
-    return false;
-  }
-
   /** Settles [cursor, t). */
   advance(t: number) {
     while (this.cursor < t) {
@@ -73,11 +65,7 @@ export class DiscreteTrackJudge<V> {
       const nextSeen = this.seen[this.seenIndex + 1]?.t;
       if (nextExp !== undefined && nextExp < b) b = nextExp;
       if (nextSeen !== undefined && nextSeen < b) b = nextSeen;
-      for (let i = 0; i < this.gaps.length; i++) {
-        const g = this.gaps[i];
-        if (g.fromMs > a && g.fromMs < b) b = g.fromMs;
-        if (g.toMs > a && g.toMs < b) b = g.toMs;
-      }
+      b = clipToGapEdges(this.gaps, a, b);
       const exp = this.expected[this.expIndex];
       const seen = this.seen[this.seenIndex];
       const expChanged = exp !== undefined && exp.t === a;
@@ -90,7 +78,7 @@ export class DiscreteTrackJudge<V> {
       if (exp === undefined) {
         // Nothing is expected yet (the recording has not set the channel): not judged.
         this.feed(a, b, false, false, 0, undefined, undefined, cause);
-      } else if (seen === undefined || (this.gaps.length > 0 && this.noDataAt(a, seen.t))) {
+      } else if (seen === undefined || (this.gaps.length > 0 && noDataAt(this.gaps, a, seen.t))) {
         this.feed(a, b, true, false, 0, exp.shows, undefined, cause);
       } else {
         const equal = this.rules.equal(exp.shows, seen.shows);

@@ -52,47 +52,21 @@ export type CobsDecodeResult =
   | { ok: true; bytes: Uint8Array }
   | { ok: false; reason: "zero_byte" | "truncated"; detail: string };
 
-/**
- * Decodes one COBS block sequence. Never throws: a 0x00 inside, or a code byte that points past
- * the end (the frame was cut short, or noise hit a code byte), is reported instead.
- */
-/**
- * Decodes `input[0, length)` into `output` (at least `length` long) and returns the decoded
- * length, or -1 when the input is not COBS (`cobsDecode` then says why): for a stream decoder
- * that unstuffs every frame into the same buffer.
- */
-export function cobsDecodeInto(input: Uint8Array, length: number, output: Uint8Array): number {
+type CobsFailure = Extract<CobsDecodeResult, { ok: false }>;
+
+/** The one decoding loop: the decoded length, or why the input is not COBS (an object only then). */
+function decodeBlocks(input: Uint8Array, length: number, output: Uint8Array): number | CobsFailure {
   let write = 0;
   let read = 0;
   while (read < length) {
     const code = input[read];
-    if (code === 0) return -1;
-    const blockEnd = read + code;
-    if (blockEnd > length) return -1;
-    for (let index = read + 1; index < blockEnd; index++) {
-      const byte = input[index];
-      if (byte === 0) return -1;
-      output[write++] = byte;
-    }
-    read = blockEnd;
-    if (code !== 0xff && read < length) output[write++] = 0;
-  }
-  return write;
-}
-
-export function cobsDecode(input: Uint8Array): CobsDecodeResult {
-  const output = new Uint8Array(input.length);
-  let write = 0;
-  let read = 0;
-  while (read < input.length) {
-    const code = input[read];
     if (code === 0) return { ok: false, reason: "zero_byte", detail: `0x00 inside encoded data at byte ${read}` };
     const blockEnd = read + code;
-    if (blockEnd > input.length) {
+    if (blockEnd > length) {
       return {
         ok: false,
         reason: "truncated",
-        detail: `code byte ${code} at byte ${read} needs ${code - 1} more bytes, only ${input.length - read - 1} left`,
+        detail: `code byte ${code} at byte ${read} needs ${code - 1} more bytes, only ${length - read - 1} left`,
       };
     }
     for (let index = read + 1; index < blockEnd; index++) {
@@ -102,7 +76,27 @@ export function cobsDecode(input: Uint8Array): CobsDecodeResult {
     }
     read = blockEnd;
     // Every block except a full one (code 0xff) and the last one stands for a following zero.
-    if (code !== 0xff && read < input.length) output[write++] = 0;
+    if (code !== 0xff && read < length) output[write++] = 0;
   }
-  return { ok: true, bytes: output.subarray(0, write) };
+  return write;
+}
+
+/**
+ * Decodes `input[0, length)` into `output` (at least `length` long) and returns the decoded
+ * length, or -1 when the input is not COBS (`cobsDecode` then says why): for a stream decoder
+ * that unstuffs every frame into the same buffer.
+ */
+export function cobsDecodeInto(input: Uint8Array, length: number, output: Uint8Array): number {
+  const result = decodeBlocks(input, length, output);
+  return typeof result === "number" ? result : -1;
+}
+
+/**
+ * Decodes one COBS block sequence. Never throws: a 0x00 inside, or a code byte that points past
+ * the end (the frame was cut short, or noise hit a code byte), is reported instead.
+ */
+export function cobsDecode(input: Uint8Array): CobsDecodeResult {
+  const output = new Uint8Array(input.length);
+  const result = decodeBlocks(input, input.length, output);
+  return typeof result === "number" ? { ok: true, bytes: output.subarray(0, result) } : result;
 }
